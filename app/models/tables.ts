@@ -1,0 +1,309 @@
+// Row types for every table, declared once so Knex queries are typed
+// (`db("yards")` returns YardRow). Numeric columns arrive as strings from pg
+// (decimal) and are converted in the models where they are read.
+
+export const ROLES = ["customer", "crew", "dispatcher", "office", "owner"] as const;
+export type Role = (typeof ROLES)[number];
+export const BROOD_STATUSES = ["brood", "broodless", "unknown"] as const;
+export type BroodStatus = (typeof BROOD_STATUSES)[number];
+export const TIME_PREFERENCES = ["any", "morning", "afternoon"] as const;
+export type TimePreference = (typeof TIME_PREFERENCES)[number];
+export const SKIP_REASONS = ["dead_out", "queenless", "supers_on", "aggressive", "not_reachable", "other"] as const;
+export type SkipReason = (typeof SKIP_REASONS)[number];
+
+type Id = string | number;
+type Stamps = { created_at: Date; updated_at: Date };
+
+export interface UserRow extends Stamps {
+  id: Id;
+  email: string;
+  password_hash: string;
+  role: Role;
+  name: string;
+  phone: string | null;
+  applicator_licence: string | null;
+  disabled_at: Date | null;
+}
+
+export interface CustomerRow extends Stamps {
+  id: Id;
+  user_id: Id | null;
+  name: string;
+  email: string;
+  phone: string | null;
+  address_line: string | null;
+  city: string | null;
+  region: string | null;
+  postal_code: string | null;
+  notes: string | null;
+  stripe_customer_id: string | null;
+  anonymised_at: Date | null;
+}
+
+export interface YardRow extends Stamps {
+  id: Id;
+  customer_id: Id;
+  name: string;
+  lat: string | number;
+  lng: string | number;
+  address: string | null;
+  access_notes: string;
+  colony_count: number;
+  brood_boxes_per_colony: number;
+  brood_status: BroodStatus;
+  supers_off: boolean;
+  archived_at: Date | null;
+}
+
+export interface ColonyRow extends Stamps {
+  id: Id;
+  yard_id: Id;
+  label: string;
+  brood_boxes: number;
+  brood_status: BroodStatus;
+  active: boolean;
+  notes: string | null;
+}
+
+export interface CrewRow extends Stamps {
+  id: Id;
+  name: string;
+  start_label: string;
+  start_lat: string | number;
+  start_lng: string | number;
+  end_label: string | null;
+  end_lat: string | number | null;
+  end_lng: string | number | null;
+  work_start: string;
+  work_end: string;
+  vaporizers: number;
+  active: boolean;
+}
+
+export interface CrewMemberRow {
+  crew_id: Id;
+  user_id: Id;
+}
+
+export interface BookingRow extends Stamps {
+  id: Id;
+  customer_id: Id;
+  yard_id: Id;
+  service_date: string;
+  time_preference: TimePreference;
+  colonies: number;
+  status: "requested" | "confirmed" | "cancelled" | "completed";
+  notes: string | null;
+  created_by: Id | null;
+  cancelled_at: Date | null;
+  cancel_reason: string | null;
+}
+
+export interface CourseRow extends Stamps {
+  id: Id;
+  yard_id: Id;
+  booking_id: Id | null;
+  brood_status: BroodStatus;
+  rounds_planned: number;
+  interval_days: number;
+  status: "active" | "complete" | "cancelled";
+}
+
+export interface VisitRow extends Stamps {
+  id: Id;
+  course_id: Id;
+  yard_id: Id;
+  round_number: number;
+  service_date: string;
+  time_preference: TimePreference;
+  status: "scheduled" | "deferred" | "in_progress" | "done" | "cancelled";
+  colonies_expected: number;
+  supers_confirmed_at: Date | null;
+  supers_confirmed_by: Id | null;
+  started_at: Date | null;
+  finished_at: Date | null;
+  finished_by: Id | null;
+  finish_key: string | null;
+  report_sent_at: Date | null;
+  weather_note: string | null;
+  notes: string | null;
+  defer_reason: string | null;
+}
+
+export interface RunRow extends Stamps {
+  id: Id;
+  crew_id: Id;
+  service_date: string;
+  status: "draft" | "published" | "in_progress" | "done";
+  published_at: Date | null;
+  published_by: Id | null;
+  safety_checked_at: Date | null;
+  drive_seconds: number;
+  drive_meters: number;
+  version: number;
+}
+
+export interface StopRow extends Stamps {
+  id: Id;
+  run_id: Id;
+  visit_id: Id;
+  position: number;
+  arrive_at: Date;
+  start_at: Date;
+  leave_at: Date;
+  drive_seconds_from_previous: number;
+  drive_meters_from_previous: number;
+  locked: boolean;
+}
+
+export interface TallyRow extends Stamps {
+  id: Id;
+  visit_id: Id;
+  colony_id: Id | null;
+  colony_label: string;
+  outcome: "treated" | "skipped";
+  skip_reason: SkipReason | null;
+  skip_note: string | null;
+  brood_boxes: number;
+  dose_grams: string | number;
+  mites: number | null;
+  bees_sampled: number | null;
+  notes: string | null;
+  recorded_by: Id | null;
+  recorded_at: Date;
+  idempotency_key: string | null;
+}
+
+export interface InvoiceSequenceRow {
+  year: number;
+  last_number: number;
+}
+
+export interface InvoiceRow extends Stamps {
+  id: Id;
+  year: number;
+  sequence: number;
+  number: string;
+  customer_id: Id;
+  visit_id: Id | null;
+  status: "open" | "paid" | "void" | "refunded";
+  issued_on: string;
+  due_on: string;
+  subtotal_cents: number;
+  tax_cents: number;
+  total_cents: number;
+  currency: string;
+  void_reason: string | null;
+  stripe_checkout_session_id: string | null;
+  sent_at: Date | null;
+  reminded_at: Date | null;
+}
+
+export interface InvoiceLineRow {
+  id: Id;
+  invoice_id: Id;
+  position: number;
+  kind: "colony" | "trip_fee" | "minimum" | "adjustment";
+  description: string;
+  quantity: number;
+  unit_cents: number;
+  amount_cents: number;
+}
+
+export interface PaymentRow extends Stamps {
+  id: Id;
+  invoice_id: Id;
+  amount_cents: number;
+  method: "card" | "cash" | "cheque";
+  received_at: Date;
+  reference: string | null;
+  stripe_payment_intent_id: string | null;
+  recorded_by: Id | null;
+}
+
+export interface RefundRow extends Stamps {
+  id: Id;
+  payment_id: Id;
+  amount_cents: number;
+  reason: string;
+  stripe_refund_id: string | null;
+  created_by: Id | null;
+}
+
+export interface AttachmentRow extends Stamps {
+  id: Id;
+  yard_id: Id | null;
+  visit_id: Id | null;
+  original_name: string;
+  content_type: string;
+  byte_size: number;
+  content: Buffer;
+  uploaded_by: Id | null;
+}
+
+export interface SettingRow extends Stamps {
+  key: string;
+  value: unknown;
+  updated_by: Id | null;
+}
+
+export interface EmailLogRow extends Stamps {
+  id: Id;
+  kind: string;
+  to_address: string;
+  subject: string;
+  customer_id: Id | null;
+  invoice_id: Id | null;
+  booking_id: Id | null;
+  visit_id: Id | null;
+  status: "queued" | "sent" | "failed";
+  attempts: number;
+  last_error: string | null;
+  dedupe_key: string | null;
+  sent_at: Date | null;
+}
+
+export interface WebhookEventRow {
+  id: string;
+  type: string;
+  payload: unknown;
+  received_at: Date;
+}
+
+export interface AuditLogRow {
+  id: Id;
+  at: Date;
+  actor_user_id: Id | null;
+  action: string;
+  entity_type: string;
+  entity_id: string;
+  before: unknown;
+  after: unknown;
+}
+
+declare module "knex/types/tables" {
+  interface Tables {
+    users: UserRow;
+    customers: CustomerRow;
+    yards: YardRow;
+    colonies: ColonyRow;
+    crews: CrewRow;
+    crew_members: CrewMemberRow;
+    bookings: BookingRow;
+    courses: CourseRow;
+    visits: VisitRow;
+    runs: RunRow;
+    stops: StopRow;
+    tallies: TallyRow;
+    invoice_sequences: InvoiceSequenceRow;
+    invoices: InvoiceRow;
+    invoice_lines: InvoiceLineRow;
+    payments: PaymentRow;
+    refunds: RefundRow;
+    attachments: AttachmentRow;
+    settings: SettingRow;
+    email_log: EmailLogRow;
+    webhook_events: WebhookEventRow;
+    audit_log: AuditLogRow;
+  }
+}

@@ -1,0 +1,27 @@
+import { defineConfig } from "vitest/config";
+
+// Two projects: pure unit tests, and integration tests against the project's own
+// PostgreSQL (one database per worker, cloned from a migrated template).
+export default defineConfig({
+  resolve: { tsconfigPaths: true },
+  test: {
+    projects: [
+      {
+        extends: true,
+        test: { name: "unit", include: ["tests/unit/**/*.test.ts"] },
+      },
+      {
+        extends: true,
+        test: {
+          name: "integration",
+          include: ["tests/integration/**/*.test.ts"],
+          globalSetup: ["tests/integration/global-setup.ts"],
+          setupFiles: ["tests/integration/worker-database.ts"],
+          testTimeout: 60_000,
+          hookTimeout: 120_000,
+          pool: "forks",
+        },
+      },
+    ],
+  },
+});
