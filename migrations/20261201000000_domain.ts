@@ -237,7 +237,7 @@ export async function up(knex: Knex): Promise<void> {
     t.unique(["visit_id", "colony_label"]);
     t.check(inList("outcome", ["treated", "skipped"]), [], "tallies_outcome_check");
     t.check(
-      `(outcome = 'treated' and skip_reason is null) or (outcome = 'skipped' and ${inList("skip_reason", SKIP_REASONS)})`,
+      `(outcome = 'treated' and skip_reason is null) or (outcome = 'skipped' and skip_reason is not null and ${inList("skip_reason", SKIP_REASONS)})`,
       [],
       "tallies_skip_reason_check",
     );

@@ -1,6 +1,6 @@
 // Row types for every table, declared once so Knex queries are typed
-// (`db("yards")` returns YardRow). Numeric columns arrive as strings from pg
-// (decimal) and are converted in the models where they are read.
+// (`db("yards")` returns YardRow). app/services/db.server.ts parses bigint and numeric
+// columns to numbers and keeps `date` columns as ISO strings (YYYY-MM-DD).
 
 export const ROLES = ["customer", "crew", "dispatcher", "office", "owner"] as const;
 export type Role = (typeof ROLES)[number];
@@ -11,7 +11,7 @@ export type TimePreference = (typeof TIME_PREFERENCES)[number];
 export const SKIP_REASONS = ["dead_out", "queenless", "supers_on", "aggressive", "not_reachable", "other"] as const;
 export type SkipReason = (typeof SKIP_REASONS)[number];
 
-type Id = string | number;
+type Id = number;
 type Stamps = { created_at: Date; updated_at: Date };
 
 export interface UserRow extends Stamps {
@@ -44,8 +44,8 @@ export interface YardRow extends Stamps {
   id: Id;
   customer_id: Id;
   name: string;
-  lat: string | number;
-  lng: string | number;
+  lat: number;
+  lng: number;
   address: string | null;
   access_notes: string;
   colony_count: number;
@@ -69,11 +69,11 @@ export interface CrewRow extends Stamps {
   id: Id;
   name: string;
   start_label: string;
-  start_lat: string | number;
-  start_lng: string | number;
+  start_lat: number;
+  start_lng: number;
   end_label: string | null;
-  end_lat: string | number | null;
-  end_lng: string | number | null;
+  end_lat: number | null;
+  end_lng: number | null;
   work_start: string;
   work_end: string;
   vaporizers: number;
@@ -165,7 +165,7 @@ export interface TallyRow extends Stamps {
   skip_reason: SkipReason | null;
   skip_note: string | null;
   brood_boxes: number;
-  dose_grams: string | number;
+  dose_grams: number;
   mites: number | null;
   bees_sampled: number | null;
   notes: string | null;

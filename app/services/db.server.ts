@@ -1,5 +1,12 @@
 import knex, { type Knex } from "knex";
+import pg from "pg";
 import config from "../../knexfile";
+
+// Column types as the app wants them: `date` stays an ISO string (no time-zone shift),
+// bigint ids and counts become numbers (ids stay far below 2^53), numeric becomes number.
+pg.types.setTypeParser(pg.types.builtins.DATE, (value) => value);
+pg.types.setTypeParser(pg.types.builtins.INT8, (value) => Number(value));
+pg.types.setTypeParser(pg.types.builtins.NUMERIC, (value) => Number(value));
 
 // One shared Knex instance, cached on globalThis so dev reloads do not open new pools.
 const globalForDb = globalThis as unknown as { __varrouteDb?: Knex };

@@ -1,0 +1,101 @@
+import { Card, PageHeader, Stat } from "./ui/card";
+import { Table, Td, Th } from "./ui/table";
+import { broodStatusName, formatServiceDate, visitStatusName } from "./format";
+import type { ColonySummary, YardSummary, YardVisit } from "~/models/yards.server";
+import { SafetyCautions } from "./safety-cautions";
+
+/** A yard as customers and dispatchers see it: where, how to get in, colonies, visits. */
+export function YardDetails({
+  yard,
+  colonies,
+  visits,
+  showCustomer = false,
+}: {
+  yard: YardSummary;
+  colonies: ColonySummary[];
+  visits: YardVisit[];
+  showCustomer?: boolean;
+}) {
+  return (
+    <>
+      <PageHeader
+        title={yard.name}
+        subtitle={
+          <>
+            {showCustomer ? <span className="font-semibold">{yard.customerName} · </span> : null}
+            {yard.address ?? "No address given"} · {yard.lat.toFixed(5)}, {yard.lng.toFixed(5)}
+          </>
+        }
+      />
+      <div className="mb-6 grid grid-cols-2 gap-3 lg:grid-cols-4">
+        <Stat label="Colonies" value={yard.colonyCount} />
+        <Stat label="Brood boxes per colony" value={yard.broodBoxesPerColony} />
+        <Stat label="Brood" value={broodStatusName(yard.broodStatus)} />
+        <Stat label="Honey supers" value={yard.supersOff ? "Off" : "Not confirmed off"} tone={yard.supersOff ? "plain" : "attention"} />
+      </div>
+      <div className="grid gap-6 lg:grid-cols-3">
+        <div className="flex min-w-0 flex-col gap-6 lg:col-span-2">
+          <Card title="Access">
+            <p className="whitespace-pre-line">{yard.accessNotes || "No access notes."}</p>
+            <p className="mt-2 text-ink-soft">
+              Next visit: {yard.nextVisitDate ? formatServiceDate(yard.nextVisitDate) : "none booked"}
+            </p>
+          </Card>
+          <Card title="Colonies">
+            <Table
+              caption="Colonies in this yard"
+              empty="No colonies are listed for this yard."
+              head={
+                <>
+                  <Th>Colony</Th>
+                  <Th align="right">Brood boxes</Th>
+                  <Th>Brood</Th>
+                  <Th>In use</Th>
+                </>
+              }
+            >
+              {colonies.map((colony) => (
+                <tr key={colony.id}>
+                  <Td>{colony.label}</Td>
+                  <Td align="right">{colony.broodBoxes}</Td>
+                  <Td>{broodStatusName(colony.broodStatus)}</Td>
+                  <Td>{colony.active ? "Yes" : "No"}</Td>
+                </tr>
+              ))}
+            </Table>
+          </Card>
+          <Card title="Visits">
+            <Table
+              caption="Treatment visits to this yard"
+              empty="No visits yet."
+              head={
+                <>
+                  <Th>Day</Th>
+                  <Th>Round</Th>
+                  <Th>Status</Th>
+                  <Th align="right">Treated</Th>
+                  <Th align="right">Skipped</Th>
+                  <Th align="right">Grams applied</Th>
+                </>
+              }
+            >
+              {visits.map((visit) => (
+                <tr key={visit.id}>
+                  <Td>{formatServiceDate(visit.serviceDate)}</Td>
+                  <Td>
+                    {visit.roundNumber} of {visit.roundsPlanned}
+                  </Td>
+                  <Td>{visitStatusName(visit.status)}</Td>
+                  <Td align="right">{visit.treated}</Td>
+                  <Td align="right">{visit.skipped}</Td>
+                  <Td align="right">{visit.grams.toFixed(1)} g</Td>
+                </tr>
+              ))}
+            </Table>
+          </Card>
+        </div>
+        <SafetyCautions audience={showCustomer ? "staff" : "customer"} />
+      </div>
+    </>
+  );
+}

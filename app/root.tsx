@@ -1,0 +1,38 @@
+import { isRouteErrorResponse, Links, Meta, Outlet, Scripts, ScrollRestoration } from "react-router";
+import type { Route } from "./+types/root";
+import "./app.css";
+import { ErrorPage } from "./components/error-page";
+
+export const links: Route.LinksFunction = () => [{ rel: "icon", href: "/favicon.svg", type: "image/svg+xml" }];
+
+export function Layout({ children }: { children: React.ReactNode }) {
+  return (
+    <html lang="en">
+      <head>
+        <meta charSet="utf-8" />
+        <meta name="viewport" content="width=device-width, initial-scale=1" />
+        <meta name="theme-color" content="#175a43" />
+        <Meta />
+        <Links />
+      </head>
+      <body className="min-h-screen bg-paper font-sans text-ink antialiased">
+        {children}
+        <ScrollRestoration />
+        <Scripts />
+      </body>
+    </html>
+  );
+}
+
+export default function App() {
+  return <Outlet />;
+}
+
+export function ErrorBoundary({ error }: Route.ErrorBoundaryProps) {
+  if (isRouteErrorResponse(error)) {
+    const detail = typeof error.data === "string" ? error.data : undefined;
+    return <ErrorPage status={error.status} detail={detail} />;
+  }
+  const detail = import.meta.env.DEV && error instanceof Error ? error.stack : undefined;
+  return <ErrorPage status={500} detail={detail} />;
+}

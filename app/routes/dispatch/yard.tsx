@@ -1,0 +1,27 @@
+import { Link } from "react-router";
+import { YardDetails } from "~/components/yard-details";
+import { getYard, listColonies, listYardVisits } from "~/models/yards.server";
+import { businessToday } from "~/services/clock.server";
+import { db } from "~/services/db.server";
+import { AREA_ROLES, requireRole } from "~/services/permissions.server";
+import type { Route } from "./+types/yard";
+
+export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.yard.name ?? "Yard"} · Varroute` }];
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  await requireRole(request, AREA_ROLES.dispatch);
+  const yard = await getYard(db, params.yardId, businessToday());
+  const [colonies, visits] = await Promise.all([listColonies(db, yard.id), listYardVisits(db, yard.id)]);
+  return { yard, colonies, visits };
+}
+
+export default function DispatchYard({ loaderData }: Route.ComponentProps) {
+  return (
+    <>
+      <Link to="/dispatch" className="mb-3 inline-flex min-h-11 items-center font-semibold text-pine-800 underline">
+        ← Days ahead
+      </Link>
+      <YardDetails {...loaderData} showCustomer />
+    </>
+  );
+}

@@ -1,0 +1,21 @@
+import { Outlet } from "react-router";
+import { AppShell } from "~/components/app-shell";
+import { AREA_ROLES, requireRole } from "~/services/permissions.server";
+import type { Route } from "./+types/layout";
+
+export async function loader({ request }: Route.LoaderArgs) {
+  const user = await requireRole(request, AREA_ROLES.office);
+  return { user: { name: user.name, role: user.role } };
+}
+
+export default function OfficeLayout({ loaderData }: Route.ComponentProps) {
+  const nav = [
+    { to: "/office", label: "Money at a glance", end: true },
+    ...(loaderData.user.role === "owner" ? [{ to: "/dispatch", label: "Dispatch" }] : []),
+  ];
+  return (
+    <AppShell user={loaderData.user} nav={nav}>
+      <Outlet />
+    </AppShell>
+  );
+}

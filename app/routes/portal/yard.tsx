@@ -1,0 +1,27 @@
+import { Link } from "react-router";
+import { YardDetails } from "~/components/yard-details";
+import { listColonies, listYardVisits, getYardForCustomer } from "~/models/yards.server";
+import { businessToday } from "~/services/clock.server";
+import { db } from "~/services/db.server";
+import { requireCustomer } from "~/services/permissions.server";
+import type { Route } from "./+types/yard";
+
+export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.yard.name ?? "Yard"} · Varroute` }];
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const user = await requireCustomer(request);
+  const yard = await getYardForCustomer(db, user.customerId, params.yardId, businessToday());
+  const [colonies, visits] = await Promise.all([listColonies(db, yard.id), listYardVisits(db, yard.id)]);
+  return { yard, colonies, visits };
+}
+
+export default function PortalYard({ loaderData }: Route.ComponentProps) {
+  return (
+    <>
+      <Link to="/portal" className="mb-3 inline-flex min-h-11 items-center font-semibold text-pine-800 underline">
+        ← My yards
+      </Link>
+      <YardDetails {...loaderData} />
+    </>
+  );
+}

@@ -1,0 +1,76 @@
+import { useState } from "react";
+import { data, Form, Link, useNavigation } from "react-router";
+import { Button } from "~/components/ui/button";
+import { Field } from "~/components/ui/field";
+import { signUpSchema } from "~/forms/account";
+import { fieldErrors, formValues, type FieldErrors } from "~/forms/field-errors";
+import { createCustomerAccount, emailTaken } from "~/models/users.server";
+import { db } from "~/services/db.server";
+import { homeFor, optionalUser } from "~/services/permissions.server";
+import { createUserSession } from "~/services/session.server";
+import type { Route } from "./+types/sign-up";
+
+export const meta: Route.MetaFunction = () => [{ title: "Create an account · Varroute" }];
+
+export async function loader({ request }: Route.LoaderArgs) {
+  const user = await optionalUser(request);
+  if (user) return createUserSession(request, user.id, homeFor(user.role));
+  return null;
+}
+
+export async function action({ request }: Route.ActionArgs) {
+  const values = formValues(await request.formData());
+  const parsed = signUpSchema.safeParse(values);
+  const kept = { name: values.name, email: values.email, phone: values.phone };
+  if (!parsed.success) return data({ errors: fieldErrors(parsed.error), values: kept }, { status: 400 });
+  if (await emailTaken(db, parsed.data.email)) {
+    return data(
+      { errors: { email: "An account with this e-mail already exists. Sign in instead." } as FieldErrors, values: kept },
+      { status: 400 },
+    );
+  }
+  const userId = await createCustomerAccount(db, parsed.data);
+  return createUserSession(request, userId, "/portal");
+}
+
+export default function SignUp({ actionData }: Route.ComponentProps) {
+  const busy = useNavigation().state === "submitting";
+  const [clientErrors, setClientErrors] = useState<FieldErrors | null>(null);
+  const errors = clientErrors ?? actionData?.errors ?? {};
+  const kept = actionData?.values as Record<string, string> | undefined;
+  return (
+    <div className="mx-auto max-w-md px-4 py-10">
+      <h1 className="text-3xl font-bold">Create your account</h1>
+      <p className="mt-2 text-ink-soft">
+        Put your yards on the map and book a treatment visit on a day that still has room.
+      </p>
+      <Form
+        method="post"
+        noValidate
+        className="mt-6 flex flex-col gap-4"
+        onSubmit={(event) => {
+          const parsed = signUpSchema.safeParse(formValues(new FormData(event.currentTarget)));
+          if (!parsed.success) {
+            event.preventDefault();
+            setClientErrors(fieldErrors(parsed.error));
+          } else setClientErrors(null);
+        }}
+      >
+        <Field label="Your name" name="name" autoComplete="name" required defaultValue={kept?.name} error={errors.name} />
+        <Field label="E-mail" name="email" type="email" autoComplete="email" required defaultValue={kept?.email} error={errors.email} />
+        <Field label="Phone (optional)" name="phone" type="tel" autoComplete="tel" defaultValue={kept?.phone} error={errors.phone} hint="The crew calls this number if they cannot find the yard." />
+        <Field label="Password" name="password" type="password" autoComplete="new-password" required error={errors.password} hint="At least 10 characters." />
+        <Field label="Password again" name="confirm" type="password" autoComplete="new-password" required error={errors.confirm} />
+        <Button type="submit" disabled={busy}>
+          {busy ? "Creating your account…" : "Create account"}
+        </Button>
+      </Form>
+      <p className="mt-6">
+        Already have an account?{" "}
+        <Link to="/sign-in" className="font-semibold text-pine-800 underline">
+          Sign in
+        </Link>
+      </p>
+    </div>
+  );
+}

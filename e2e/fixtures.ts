@@ -1,0 +1,51 @@
+import { test as base, expect, type Page } from "@playwright/test";
+
+export const DEMO_PASSWORD = "demo-bees-2026";
+export const DEMO = {
+  owner: "owner@demo.varroute.test",
+  dispatcher: "dispatcher@demo.varroute.test",
+  office: "office@demo.varroute.test",
+  crew: "crew@demo.varroute.test",
+  customer: "customer@demo.varroute.test",
+} as const;
+export type DemoRole = keyof typeof DEMO;
+
+export const HOMES: Record<DemoRole, string> = {
+  owner: "/dispatch",
+  dispatcher: "/dispatch",
+  office: "/office",
+  crew: "/crew",
+  customer: "/portal",
+};
+
+/** Every page is checked for requests that would leave the machine: none may. */
+export const test = base.extend<{ offlineGuard: void }>({
+  offlineGuard: [
+    async ({ context }, use) => {
+      const outside: string[] = [];
+      await context.route(/^(?!https?:\/\/(127\.0\.0\.1|localhost)[:/]).+/i, (route) => {
+        const url = route.request().url();
+        if (url.startsWith("data:") || url.startsWith("blob:")) return route.continue();
+        outside.push(url);
+        return route.abort();
+      });
+      await use();
+      expect(outside, "requests to the internet").toEqual([]);
+    },
+    { auto: true },
+  ],
+});
+export { expect };
+
+export async function signIn(page: Page, email: string, password = DEMO_PASSWORD) {
+  await page.goto("/sign-in");
+  await page.getByLabel("E-mail").fill(email);
+  await page.getByLabel("Password").fill(password);
+  await page.getByRole("button", { name: "Sign in" }).click();
+}
+
+export async function signOut(page: Page) {
+  const wide = await page.getByRole("button", { name: "Sign out" }).first().isVisible();
+  if (!wide) await page.getByText("Menu").click();
+  await page.getByRole("button", { name: "Sign out" }).filter({ visible: true }).first().click();
+}

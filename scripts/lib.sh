@@ -1,0 +1,116 @@
+# Shared set-up for scripts/start.sh and scripts/test.sh (sourced, POSIX sh).
+# Installs what is missing, brings up every local service the app needs, and stops
+# them all again on exit or Ctrl-C.
+set -eu
+
+ROOT=$(cd "$(dirname "$0")/.." && pwd)
+cd "$ROOT"
+export PG_PORT=${PG_PORT:-54329}
+export PG_BIN=${PG_BIN:-/usr/lib/postgresql/15/bin}
+RUN_DIR=$ROOT/.run
+mkdir -p "$RUN_DIR"
+
+say() { printf '\033[1;32m[varroute]\033[0m %s\n' "$*"; }
+fail() { printf '\033[1;31m[varroute]\033[0m %s\n' "$*" >&2; exit 1; }
+
+# Debian packages the project needs: PostgreSQL 15 always; Chromium and the document
+# tools only for tests. Installed when missing and running as root; otherwise the
+# command to run is printed.
+ensure_debian_packages() {
+  missing=""
+  [ -x "$PG_BIN/postgres" ] || missing="$missing postgresql"
+  for want in "$@"; do
+    case $want in
+      chromium) [ -x /usr/bin/chromium ] || missing="$missing chromium" ;;
+      poppler-utils) command -v pdftotext >/dev/null 2>&1 || missing="$missing poppler-utils" ;;
+      libxml2-utils) command -v xmllint >/dev/null 2>&1 || missing="$missing libxml2-utils" ;;
+    esac
+  done
+  [ -z "$missing" ] && return 0
+  if [ "$(id -u)" = 0 ]; then
+    say "installing Debian packages:$missing"
+    apt-get update -q >/dev/null
+    DEBIAN_FRONTEND=noninteractive apt-get install -y -q $missing >/dev/null
+  else
+    fail "missing Debian packages:$missing — run: sudo apt-get update && sudo apt-get install -y$missing"
+  fi
+}
+
+# npm ci when node_modules is missing or was installed from another lock file.
+ensure_node_modules() {
+  stamp=node_modules/.varroute-lock
+  want=$(sha256sum package-lock.json | cut -d' ' -f1)
+  if [ ! -f "$stamp" ] || [ "$(cat "$stamp")" != "$want" ]; then
+    say "installing npm packages (npm ci)"
+    npm ci --no-audit --no-fund --loglevel=error
+    echo "$want" > "$stamp"
+  fi
+}
+
+psql_admin() {
+  PGPASSWORD=postgres "$PG_BIN/psql" -h 127.0.0.1 -p "$PG_PORT" -U postgres -v ON_ERROR_STOP=1 -qAt "$@"
+}
+
+STARTED_PG=""
+start_postgres() {
+  if sh scripts/pg.sh status >/dev/null 2>&1; then
+    say "PostgreSQL already running on 127.0.0.1:$PG_PORT"
+  else
+    sh scripts/pg.sh start >/dev/null
+    STARTED_PG=1
+    say "PostgreSQL started on 127.0.0.1:$PG_PORT (data in .pg/)"
+  fi
+  tries=0
+  until psql_admin -d postgres -c "select 1" >/dev/null 2>&1; do
+    tries=$((tries + 1)); [ $tries -gt 60 ] && fail "PostgreSQL does not answer on 127.0.0.1:$PG_PORT"
+    sleep 0.5
+  done
+}
+
+ensure_database() {
+  if [ "$(psql_admin -d postgres -c "select 1 from pg_database where datname = '$1'")" != "1" ]; then
+    psql_admin -d postgres -c "create database \"$1\""
+  fi
+}
+
+recreate_database() {
+  psql_admin -d postgres -c "drop database if exists \"$1\" with (force)"
+  psql_admin -d postgres -c "create database \"$1\""
+}
+
+# Waits until a TCP port on 127.0.0.1 accepts connections.
+wait_for_port() {
+  node -e '
+    const [port, name] = process.argv.slice(1); const net = require("node:net"); const until = Date.now() + 60000;
+    (function attempt() { const s = net.connect(Number(port), "127.0.0.1");
+      s.on("connect", () => { s.end(); process.exit(0); });
+      s.on("error", () => { if (Date.now() > until) { console.error(name + " does not answer on port " + port); process.exit(1); } setTimeout(attempt, 250); }); })();
+  ' "$1" "$2"
+}
+
+# Background services started by this script (pid files in .run/), stopped on exit.
+SERVICE_PIDS=""
+start_service() { # name port command...
+  name=$1; port=$2; shift 2
+  "$@" >"$RUN_DIR/$name.log" 2>&1 &
+  SERVICE_PIDS="$SERVICE_PIDS $!"
+  wait_for_port "$port" "$name" || { tail -20 "$RUN_DIR/$name.log" >&2; exit 1; }
+  say "$name answering on 127.0.0.1:$port"
+}
+
+stop_services() {
+  for pid in $SERVICE_PIDS; do kill "$pid" 2>/dev/null || true; done
+  for pid in $SERVICE_PIDS; do wait "$pid" 2>/dev/null || true; done
+  SERVICE_PIDS=""
+  if [ -n "$STARTED_PG" ]; then
+    sh scripts/pg.sh stop >/dev/null 2>&1 && say "PostgreSQL stopped" || true
+  fi
+}
+
+start_local_services() {
+  start_postgres
+}
+
+knex_cli() {
+  node --import tsx ./node_modules/knex/bin/cli.js "$@" --knexfile knexfile.ts
+}
