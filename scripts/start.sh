@@ -37,4 +37,8 @@ cat <<MSG
   Press Ctrl-C to stop the app and its services.
 
 MSG
-NODE_ENV=production npx react-router-serve ./build/server/index.js
+# In the background and waited for, so a signal to this script stops the app and then
+# every service (the EXIT trap).
+NODE_ENV=production ./node_modules/.bin/react-router-serve ./build/server/index.js &
+SERVICE_PIDS="$SERVICE_PIDS $!"
+wait $!
