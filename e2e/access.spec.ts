@@ -44,11 +44,14 @@ function join(base: string, path?: string) {
   return `${base.replace(/\/$/, "")}/${path}`.replace(/\/+/g, "/");
 }
 
-/** The URL path of every route module in the config (layouts get their own path). */
+/** The URL path of every route module in the config. A pathless layout has no URL of
+ *  its own: it is requested through its first child, so its own loader runs too. */
 function allRoutes(entries: RouteConfigEntry[], base = "/"): Page[] {
   return entries.flatMap((entry) => {
     const path = join(base, entry.path);
-    return [{ file: entry.file, path }, ...(entry.children ? allRoutes(entry.children, path) : [])];
+    const children = entry.children ? allRoutes(entry.children, path) : [];
+    const own = entry.path === undefined && children.length ? children[0].path : path;
+    return [{ file: entry.file, path: own }, ...children];
   });
 }
 

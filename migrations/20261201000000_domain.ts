@@ -258,7 +258,7 @@ export async function up(knex: Knex): Promise<void> {
     t.integer("sequence").notNullable();
     t.text("number").notNullable().unique();
     t.bigInteger("customer_id").notNullable().references("customers.id").onDelete("restrict");
-    t.bigInteger("visit_id").unique().references("visits.id").onDelete("set null");
+    t.bigInteger("visit_id").references("visits.id").onDelete("set null");
     t.text("status").notNullable().defaultTo("open");
     t.date("issued_on").notNullable();
     t.date("due_on").notNullable();
@@ -279,6 +279,8 @@ export async function up(knex: Knex): Promise<void> {
     t.index(["customer_id"]);
     t.index(["status", "due_on"]);
   });
+  // One live invoice per visit; a voided one may be replaced.
+  await knex.raw("create unique index invoices_visit_live_unique on invoices (visit_id) where status <> 'void'");
 
   await knex.schema.createTable("invoice_lines", (t) => {
     t.bigIncrements("id");

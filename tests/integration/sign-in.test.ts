@@ -73,7 +73,7 @@ describe("sign-in", () => {
 
   it("does not load a disabled account", async () => {
     const id = await createCustomerAccount(db, { name: "Robin Hive", email: "robin@example.test", password: "correct horse battery" });
-    await db("users").where({ id }).update({ disabled_at: db.fn.now() });
+    await db("users").where({ id: Number(id) }).update({ disabled_at: db.fn.now() });
     expect(await findSessionUser(db, id)).toBeNull();
     expect((await signInError("robin@example.test", "correct horse battery")).field).toBe("password");
   });
@@ -82,7 +82,7 @@ describe("sign-in", () => {
 describe("customer sign-up", () => {
   it("creates the sign-in and the customer record together, with an audit entry", async () => {
     const id = await createCustomerAccount(db, { name: "Robin Hive", email: "Robin@Example.test", password: "correct horse battery" });
-    const customer = await db("customers").where({ user_id: id }).first();
+    const customer = await db("customers").where({ user_id: Number(id) }).first();
     expect(customer).toMatchObject({ name: "Robin Hive", email: "robin@example.test" });
     expect(await db("audit_log").where({ entity_type: "user", entity_id: id, action: "customer.sign_up" }).first()).toBeTruthy();
   });

@@ -2,7 +2,7 @@ import { Card, PageHeader, Stat } from "~/components/ui/card";
 import { formatClock, formatServiceDate } from "~/components/format";
 import { SafetyCautions } from "~/components/safety-cautions";
 import { doseGramsForRun, doseGramsForYard } from "~/domain/dose";
-import { formatDistance, formatDuration, formatMass } from "~/domain/units";
+import { formatDistance, formatDose, formatDuration } from "~/domain/units";
 import { nextPublishedRunDate, publishedRunForCrew } from "~/models/runs.server";
 import { loadBusinessSettings } from "~/models/settings.server";
 import { dateInZone } from "~/services/clock.server";
@@ -52,7 +52,7 @@ export default function CrewHome({ loaderData }: Route.ComponentProps) {
       <div className="mb-4 grid grid-cols-2 gap-3">
         <Stat label="Stops" value={run.stops.length} />
         <Stat label="Colonies" value={colonies} />
-        <Stat label="Acid to carry" value={formatMass(run.grams, settings.unitSystem)} />
+        <Stat label="Acid to carry" value={formatDose(run.grams, settings.unitSystem)} />
         <Stat label="Driving" value={`${formatDistance(run.driveMeters, settings.unitSystem)} · ${formatDuration(Math.round(run.driveSeconds / 60))}`} />
       </div>
       <ol className="mb-6 flex flex-col gap-3" aria-label="Stops in order">
@@ -71,7 +71,7 @@ export default function CrewHome({ loaderData }: Route.ComponentProps) {
                   {stop.customerName} · arrive {formatClock(stop.arriveAt, settings.timeZone)}
                 </p>
                 <p className="mt-1 font-semibold">
-                  {stop.colonies} colonies · {formatMass(stop.grams, settings.unitSystem)} · round {stop.roundNumber}
+                  {stop.colonies} colonies · {formatDose(stop.grams, settings.unitSystem)} · round {stop.roundNumber}
                 </p>
                 {stop.accessNotes ? <p className="mt-1 whitespace-pre-line">{stop.accessNotes}</p> : null}
               </div>

@@ -1,0 +1,113 @@
+/**
+ * Doses of oxalic acid dihydrate: per colony, per yard, per visit, per run, per season.
+ *
+ * Rounding: every dose is carried as a whole number of centigrams (0.01 g — the precision
+ * the tally stores) and converted back to grams at the end. A colony's dose is rounded
+ * once, half away from zero; yard, visit, run and season totals are exact sums of those
+ * rounded colony doses, so a run's total always equals the sum of what its tallies show,
+ * with no binary floating-point drift (0.1 + 0.2 adds up to exactly 0.3 here).
+ */
+
+import { roundTo } from "./units";
+
+/** Grams → whole centigrams (0.01 g), rounded half away from zero. */
+export function gramsToCentigrams(grams: number): number {
+  if (!Number.isFinite(grams)) throw new RangeError(`grams must be finite, got ${grams}`);
+  // Round in decimal first (1.005 g → 1.01 g), then scale: the product is within a hair of
+  // an integer, which Math.round snaps to. "+ 0" turns −0 into 0.
+  return Math.round(roundTo(grams, 2) * 100) + 0;
+}
+
+/** Whole centigrams → grams. */
+export function centigramsToGrams(centigrams: number): number {
+  return centigrams / 100;
+}
+
+/** Rounds a mass to 0.01 g, the precision doses are kept at. */
+export function roundDoseGrams(grams: number): number {
+  return centigramsToGrams(gramsToCentigrams(grams));
+}
+
+function assertCount(value: number, what: string): void {
+  if (!Number.isInteger(value) || value < 0) {
+    throw new RangeError(`${what} must be a whole number ≥ 0, got ${value}`);
+  }
+}
+
+function assertRate(value: number, what: string): void {
+  if (!Number.isFinite(value) || value < 0) {
+    throw new RangeError(`${what} must be a finite number ≥ 0, got ${value}`);
+  }
+}
+
+/** Grams of oxalic acid dihydrate for one colony: brood boxes × dose rate per brood box. No brood boxes → 0. */
+export function doseGramsForColony(broodBoxes: number, doseGramsPerBroodBox: number): number {
+  assertCount(broodBoxes, "brood boxes");
+  assertRate(doseGramsPerBroodBox, "dose rate");
+  return roundDoseGrams(broodBoxes * doseGramsPerBroodBox);
+}
+
+/** Grams for a yard whose colonies all have the same number of brood boxes. Zero colonies → 0. */
+export function doseGramsForYard(
+  yard: { colonies: number; broodBoxesPerColony: number },
+  doseGramsPerBroodBox: number,
+): number {
+  assertCount(yard.colonies, "colonies");
+  const perColony = gramsToCentigrams(doseGramsForColony(yard.broodBoxesPerColony, doseGramsPerBroodBox));
+  return centigramsToGrams(yard.colonies * perColony);
+}
+
+/** Grams for one visit, from the brood boxes of each colony treated (one entry per colony). */
+export function doseGramsForVisit(broodBoxesPerColony: readonly number[], doseGramsPerBroodBox: number): number {
+  let centigrams = 0;
+  for (const boxes of broodBoxesPerColony) {
+    centigrams += gramsToCentigrams(doseGramsForColony(boxes, doseGramsPerBroodBox));
+  }
+  return centigramsToGrams(centigrams);
+}
+
+function sumDoseGrams(amounts: readonly number[], what: string): number {
+  let centigrams = 0;
+  for (const grams of amounts) {
+    assertRate(grams, what);
+    centigrams += gramsToCentigrams(grams);
+  }
+  return centigramsToGrams(centigrams);
+}
+
+/** Grams a crew must carry for a run: the sum of its visits' doses. */
+export function doseGramsForRun(visitDoseGrams: readonly number[]): number {
+  return sumDoseGrams(visitDoseGrams, "visit dose");
+}
+
+/** Grams used in a season: the sum of its runs' (or visits') doses. */
+export function doseGramsForSeason(doseGrams: readonly number[]): number {
+  return sumDoseGrams(doseGrams, "dose");
+}
+
+/**
+ * Problems with a dose rate (empty when fine): it must be a positive number and must not
+ * exceed the label maximum per brood box that the business entered from its product label.
+ * Compared in centigrams, so 1.00 vs 1 is never a false alarm.
+ */
+export function doseRateProblems(doseGramsPerBroodBox: number, labelMaximumGramsPerBroodBox: number): string[] {
+  const problems: string[] = [];
+  if (!Number.isFinite(doseGramsPerBroodBox) || doseGramsPerBroodBox <= 0) {
+    problems.push("The dose per brood box must be more than 0 g.");
+  }
+  if (!Number.isFinite(labelMaximumGramsPerBroodBox) || labelMaximumGramsPerBroodBox <= 0) {
+    problems.push("Enter the label's maximum dose per brood box (more than 0 g).");
+  }
+  if (problems.length > 0) return problems;
+  if (gramsToCentigrams(doseGramsPerBroodBox) > gramsToCentigrams(labelMaximumGramsPerBroodBox)) {
+    problems.push(
+      `The dose per brood box (${roundDoseGrams(doseGramsPerBroodBox)} g) exceeds the label maximum you entered (${roundDoseGrams(labelMaximumGramsPerBroodBox)} g). Follow the product label.`,
+    );
+  }
+  return problems;
+}
+
+/** True when a dose rate is positive and within the label maximum per brood box. */
+export function isDoseRateWithinLabel(doseGramsPerBroodBox: number, labelMaximumGramsPerBroodBox: number): boolean {
+  return doseRateProblems(doseGramsPerBroodBox, labelMaximumGramsPerBroodBox).length === 0;
+}

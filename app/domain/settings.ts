@@ -1,0 +1,352 @@
+/**
+ * The business's operative settings: one zod schema with defaults, per-field validation
+ * messages, and a description of every field for the settings page.
+ *
+ * The figures here are the business's own; defaults are starting points taken from the
+ * sources named in `settingsFieldInfo`. The product label and local rules always win.
+ */
+
+import { z } from "zod";
+import { checkVaporizerBand } from "./chemistry";
+import { doseRateProblems } from "./dose";
+import { monthsWithSeveralThresholds, monthsWithoutThreshold, type MiteThreshold } from "./mites";
+
+const MONTH_NAMES = [
+  "January", "February", "March", "April", "May", "June",
+  "July", "August", "September", "October", "November", "December",
+] as const;
+
+function numberField(label: string, min: number, max: number, unit = "") {
+  const suffix = unit ? ` ${unit}` : "";
+  return z
+    .number({ error: `Enter ${label} as a number.` })
+    .refine(Number.isFinite, { error: `Enter ${label} as a number.` })
+    .min(min, { error: `${capitalise(label)} must be at least ${min}${suffix}.` })
+    .max(max, { error: `${capitalise(label)} must be at most ${max}${suffix}.` });
+}
+
+function wholeNumberField(label: string, min: number, max: number, unit = "") {
+  // A refinement rather than .int(): zod 4 treats a failed .int() as aborting, which would
+  // skip the cross-field checks below and hide their messages until this one is fixed.
+  return numberField(label, min, max, unit).refine(Number.isInteger, {
+    error: `${capitalise(label)} must be a whole number.`,
+  });
+}
+
+function capitalise(text: string): string {
+  return text.charAt(0).toUpperCase() + text.slice(1);
+}
+
+function isKnownTimeZone(timeZone: string): boolean {
+  try {
+    new Intl.DateTimeFormat("en-US", { timeZone });
+    return true;
+  } catch {
+    return false;
+  }
+}
+
+/** One seasonal action threshold (months 1–12, both included; may run over the year end). */
+export const miteThresholdSchema = z.object({
+  fromMonth: wholeNumberField("the first month", 1, 12),
+  toMonth: wholeNumberField("the last month", 1, 12),
+  mitesPer100: numberField("the threshold", 0.1, 50, "mites per 100 bees"),
+}, { error: "Enter each threshold's months and mites per 100 bees." });
+
+/**
+ * Default seasonal thresholds (mites per 100 bees):
+ * Feb–Apr 1 (early season, Mississippi State Univ. Extension);
+ * May–Jul 3 (general threshold, USDA-ARS Carl Hayden Bee Research Center);
+ * Aug–Oct 3 (autumn, upper end of 2–3, Honey Bee Health Coalition — lower it to 2 to act sooner);
+ * Nov–Jan 3 (general threshold, USDA-ARS).
+ */
+export const DEFAULT_MITE_THRESHOLDS: readonly MiteThreshold[] = [
+  { fromMonth: 2, toMonth: 4, mitesPer100: 1 },
+  { fromMonth: 5, toMonth: 7, mitesPer100: 3 },
+  { fromMonth: 8, toMonth: 10, mitesPer100: 3 },
+  { fromMonth: 11, toMonth: 1, mitesPer100: 3 },
+];
+
+/** The business's operative settings, with defaults for every field. */
+export const businessSettingsSchema = z
+  .object({
+    unitSystem: z.enum(["metric", "us"], { error: "Choose metric or US units." }).default("us"),
+
+    doseGramsPerBroodBox: numberField("the dose per brood box", 0.01, 10, "g").default(1),
+    labelMaximumGramsPerBroodBox: numberField("the label maximum per brood box", 0.01, 10, "g").default(1),
+    productName: z
+      .string({ error: "Enter the product name." })
+      .trim()
+      .min(1, { error: "Enter the product name as on its label." })
+      .max(200, { error: "The product name must be at most 200 characters." })
+      .default("Oxalic acid dihydrate"),
+    productRegistrationNumber: z
+      .string({ error: "Enter the registration number." })
+      .trim()
+      .min(1, { error: "Enter the registration number as on the label." })
+      .max(100, { error: "The registration number must be at most 100 characters." })
+      .default("EPA Reg. No. 73291-2"),
+
+    roundsWithBrood: wholeNumberField("rounds with brood", 1, 7).default(3),
+    roundIntervalDays: wholeNumberField("the interval between rounds", 4, 10, "days").default(7),
+
+    miteThresholds: z
+      .array(miteThresholdSchema, { error: "Enter the seasonal thresholds." })
+      .min(1, { error: "Enter at least one seasonal threshold." })
+      .max(12, { error: "Enter at most 12 seasonal thresholds." })
+      .default(() => DEFAULT_MITE_THRESHOLDS.map((t) => ({ ...t }))),
+    beesPer100Ml: wholeNumberField("bees per 100 mL", 100, 600).default(300),
+
+    sublimationSeconds: numberField("the sublimation time", 5, 300, "s").default(35),
+    entranceClosedMinutes: numberField("the time the entrance stays closed", 0, 60, "min").default(10),
+    moveBetweenHivesMinutes: numberField("the move between hives", 0, 30, "min").default(2),
+    blockReheatSeconds: numberField("the block reheat time", 0, 600, "s").default(60),
+    setupMinutes: numberField("the set-up time", 0, 120, "min").default(15),
+    vaporizersPerCrew: wholeNumberField("vaporizers per crew", 1, 10).default(2),
+    blockMinC: numberField("the lowest block temperature", 0, 400, "°C").default(230),
+    blockMaxC: numberField("the highest block temperature", 0, 400, "°C").default(240),
+
+    circuityFactor: numberField("the road circuity factor", 1, 3).default(1.2),
+    averageSpeedKmh: numberField("the average speed", 5, 130, "km/h").default(60),
+    timeZone: z
+      .string({ error: "Choose the business time zone." })
+      .refine(isKnownTimeZone, { error: "Choose a time zone such as America/New_York." })
+      .default("America/New_York"),
+
+    pricePerColonyCents: wholeNumberField("the price per colony", 0, 1_000_000, "cents").default(2500),
+    tripFeeCents: wholeNumberField("the trip fee", 0, 1_000_000, "cents").default(3500),
+    minimumPerVisitCents: wholeNumberField("the minimum per visit", 0, 1_000_000, "cents").default(5000),
+    taxRateBasisPoints: wholeNumberField("the tax rate", 0, 3000, "basis points").default(800),
+    paymentTermsDays: wholeNumberField("the payment terms", 0, 120, "days").default(14),
+    overdueReminderDays: wholeNumberField("the overdue reminder", 1, 90, "days").default(7),
+  })
+  .superRefine((settings, ctx) => {
+    for (const message of doseRateProblems(settings.doseGramsPerBroodBox, settings.labelMaximumGramsPerBroodBox)) {
+      ctx.addIssue({ code: "custom", message, path: ["doseGramsPerBroodBox"] });
+    }
+    for (const problem of checkVaporizerBand({ minC: settings.blockMinC, maxC: settings.blockMaxC })) {
+      if (problem.severity !== "error") continue; // warnings are shown, never block saving
+      ctx.addIssue({
+        code: "custom",
+        message: problem.message,
+        path: [problem.field === "minC" ? "blockMinC" : "blockMaxC"],
+      });
+    }
+    const uncovered = monthsWithoutThreshold(settings.miteThresholds);
+    if (uncovered.length > 0) {
+      ctx.addIssue({
+        code: "custom",
+        message: `No threshold covers ${uncovered.map((m) => MONTH_NAMES[m - 1]).join(", ")}.`,
+        path: ["miteThresholds"],
+      });
+    }
+    const doubled = monthsWithSeveralThresholds(settings.miteThresholds);
+    if (doubled.length > 0) {
+      ctx.addIssue({
+        code: "custom",
+        message: `More than one threshold covers ${doubled.map((m) => MONTH_NAMES[m - 1]).join(", ")}.`,
+        path: ["miteThresholds"],
+      });
+    }
+  });
+
+/** The business's operative settings. */
+export type BusinessSettings = z.output<typeof businessSettingsSchema>;
+
+/** Every default setting. */
+export const defaultBusinessSettings: BusinessSettings = businessSettingsSchema.parse({});
+
+/** Field-by-field messages from a failed validation (first path segment → messages). */
+export type BusinessSettingsFieldErrors = Partial<Record<keyof BusinessSettings, string[]>>;
+
+/** Validates settings input; on failure returns the messages per field for the settings form. */
+export function validateBusinessSettings(
+  input: unknown,
+): { ok: true; settings: BusinessSettings } | { ok: false; fieldErrors: BusinessSettingsFieldErrors; formErrors: string[] } {
+  const result = businessSettingsSchema.safeParse(input);
+  if (result.success) return { ok: true, settings: result.data };
+  const fieldErrors: BusinessSettingsFieldErrors = {};
+  const formErrors: string[] = [];
+  for (const issue of result.error.issues) {
+    const field = issue.path[0];
+    if (typeof field === "string") {
+      const key = field as keyof BusinessSettings;
+      (fieldErrors[key] ??= []).push(issue.message);
+    } else {
+      formErrors.push(issue.message);
+    }
+  }
+  return { ok: false, fieldErrors, formErrors };
+}
+
+/** What the settings page shows beside a field. */
+export interface SettingsFieldInfo {
+  label: string;
+  /** The unit the value is stored in ("" when it has none). */
+  unit: string;
+  /** One line on what the figure does. */
+  explanation: string;
+  /** Where the default comes from (see sources.md), when it has an outside source. */
+  source?: string;
+}
+
+/** A label, unit, explanation and source for every setting. */
+export const settingsFieldInfo: Record<keyof BusinessSettings, SettingsFieldInfo> = {
+  unitSystem: {
+    label: "Units",
+    unit: "",
+    explanation: "Show masses, temperatures and distances in metric or US units; doses always show grams, as labels do.",
+  },
+  doseGramsPerBroodBox: {
+    label: "Dose per brood box",
+    unit: "g",
+    explanation: "Grams of oxalic acid dihydrate vaporized per brood box; a colony's dose is this times its brood boxes.",
+    source:
+      "US label (EPA Reg. No. 73291-2): 1 g per brood chamber, as cited in Tellarini Prieto et al. 2024, Front. Bee Sci., doi:10.3389/frbee.2024.1442030",
+  },
+  labelMaximumGramsPerBroodBox: {
+    label: "Label maximum per brood box",
+    unit: "g",
+    explanation:
+      "The most your product label allows per brood box; Varroute refuses a dose rate above it. Enter it from your own label.",
+    source:
+      "US label before 2025: 1 g per brood chamber; the amended label (2025-06-24, as reported) allows up to 4 g — check the label on your package",
+  },
+  productName: {
+    label: "Product name",
+    unit: "",
+    explanation: "The product as named on its label; printed on application records.",
+  },
+  productRegistrationNumber: {
+    label: "Registration number",
+    unit: "",
+    explanation: "The product's registration number as on its label; printed on application records.",
+    source: "US EPA registration of oxalic acid dihydrate beehive products: EPA Reg. No. 73291-2",
+  },
+  roundsWithBrood: {
+    label: "Rounds with brood",
+    unit: "rounds",
+    explanation:
+      "Treatment rounds planned for a yard with brood or unknown brood; a broodless yard gets one, as the vapor does not reach mites under cappings.",
+    source:
+      "Common practice: 3 rounds 5–7 days apart; Berry et al. 2022, J. Insect Sci., PMC8825467 (7 rounds at 5-day spacing harmed neither bees nor brood); EU summary of product characteristics (UK VMD, 2015) on broodless colonies",
+  },
+  roundIntervalDays: {
+    label: "Days between rounds",
+    unit: "days",
+    explanation: "Calendar days from one round to the next in a course with brood.",
+    source: "Common practice: 5–7 days apart",
+  },
+  miteThresholds: {
+    label: "Seasonal action thresholds",
+    unit: "mites per 100 bees",
+    explanation:
+      "The mite load at or above which a colony needs treating, by months of the year; every month must be covered exactly once.",
+    source:
+      "Early season 1 per 100 (Mississippi State Univ. Extension); autumn 2–3 per 100 (Honey Bee Health Coalition, Tools for Varroa Management); general 3 per 100 (USDA-ARS Carl Hayden Bee Research Center)",
+  },
+  beesPer100Ml: {
+    label: "Bees per 100 mL of sample",
+    unit: "bees",
+    explanation: "Turns a sample's volume into bees sampled when the crew does not count them.",
+    source:
+      "About 300 bees per 100 mL (COLOSS BEEBOOK Vol. II, Dietemann et al. 2013); half-cup rules of 300 or 400 bees differ between guides",
+  },
+  sublimationSeconds: {
+    label: "Sublimation time",
+    unit: "s",
+    explanation: "Seconds one dose takes to vaporize on the block.",
+    source: "Common practice: roughly 30–40 s at a block temperature of about 230–240 °C",
+  },
+  entranceClosedMinutes: {
+    label: "Entrance closed after dose",
+    unit: "min",
+    explanation:
+      "Minutes an entrance stays closed after its dose; the crew waits this once after the last hive of a yard.",
+    source: "Common practice: about 10 minutes",
+  },
+  moveBetweenHivesMinutes: {
+    label: "Move between hives",
+    unit: "min",
+    explanation:
+      "Minutes from one hive's dose done to the next hive ready: walking, loading the dose, closing and reopening entrances.",
+  },
+  blockReheatSeconds: {
+    label: "Block reheat time",
+    unit: "s",
+    explanation:
+      "Seconds your vaporizer needs to get back to working temperature after a dose; a crew cannot dose faster than this.",
+  },
+  setupMinutes: {
+    label: "Set-up per yard",
+    unit: "min",
+    explanation: "Minutes at each yard for parking, unloading, suiting up and greeting, before the first hive.",
+  },
+  vaporizersPerCrew: {
+    label: "Vaporizers per crew",
+    unit: "vaporizers",
+    explanation: "Vaporizers a crew works with at once; hives are dosed side by side.",
+  },
+  blockMinC: {
+    label: "Lowest block temperature",
+    unit: "°C",
+    explanation: "The vaporizer block must be at least this hot before a dose; it must lie above the acid's sublimation point.",
+    source:
+      "Common practice: about 230–240 °C; anhydrous oxalic acid sublimes from about 157 °C and the dihydrate melts at 101.5 °C (chemical handbooks)",
+  },
+  blockMaxC: {
+    label: "Highest block temperature",
+    unit: "°C",
+    explanation: "The block should not run hotter than this; above the band more acid decomposes instead of vaporizing.",
+    source: "Common practice: about 230–240 °C; anhydrous oxalic acid decomposes from about 189.5 °C (chemical data sheets)",
+  },
+  circuityFactor: {
+    label: "Road circuity factor",
+    unit: "×",
+    explanation: "Road distance divided by straight-line distance, used when no routing engine is configured.",
+    source:
+      "About 1.2 in the USA (Ballou et al. 2002, Transp. Res. A 36:843–848); 1.3 ± 0.1 on motorway networks (arXiv:2406.06490)",
+  },
+  averageSpeedKmh: {
+    label: "Average driving speed",
+    unit: "km/h",
+    explanation: "Average speed over a whole drive, stops and junctions included, used for estimated drive times.",
+    source: "About 37 mph (≈ 60 km/h) on rural trips (Pew Research Center analysis, 2018)",
+  },
+  timeZone: {
+    label: "Business time zone",
+    unit: "",
+    explanation: "Service days and times are shown in this time zone.",
+  },
+  pricePerColonyCents: {
+    label: "Price per colony",
+    unit: "cents",
+    explanation: "Charged for each colony treated, counted from the crew's tally.",
+  },
+  tripFeeCents: {
+    label: "Trip fee per yard",
+    unit: "cents",
+    explanation: "Charged once per yard visit, on top of the colonies.",
+  },
+  minimumPerVisitCents: {
+    label: "Minimum per visit",
+    unit: "cents",
+    explanation: "A visit is never invoiced for less than this before tax.",
+  },
+  taxRateBasisPoints: {
+    label: "Tax rate",
+    unit: "basis points",
+    explanation: "Sales tax on services in hundredths of a percent (800 = 8 %); enter your own rate, or 0 if your services are not taxed.",
+    source: "From memory: New York State 4 % plus Tompkins County 4 %; check your own jurisdiction",
+  },
+  paymentTermsDays: {
+    label: "Payment terms",
+    unit: "days",
+    explanation: "Days from the invoice date to its due date.",
+  },
+  overdueReminderDays: {
+    label: "Overdue reminder",
+    unit: "days",
+    explanation: "Days after the due date before an unpaid invoice gets a reminder.",
+  },
+};
