@@ -22,6 +22,7 @@ export default [
     layout("routes/dispatch/layout.tsx", [
       index("routes/dispatch/home.tsx"),
       route("yards/:yardId", "routes/dispatch/yard.tsx"),
+      route("settings", "routes/dispatch/settings.tsx"),
     ]),
   ]),
 

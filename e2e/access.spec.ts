@@ -29,6 +29,7 @@ const RULES: Record<string, Rule> = {
   "routes/dispatch/layout.tsx": { outcome: staffOnly("dispatcher", "owner") },
   "routes/dispatch/home.tsx": { outcome: staffOnly("dispatcher", "owner") },
   "routes/dispatch/yard.tsx": { outcome: staffOnly("dispatcher", "owner") },
+  "routes/dispatch/settings.tsx": { outcome: staffOnly("dispatcher", "owner") },
   "routes/crew/layout.tsx": { outcome: staffOnly("crew") },
   "routes/crew/home.tsx": { outcome: staffOnly("crew") },
   "routes/office/layout.tsx": { outcome: staffOnly("office", "owner") },

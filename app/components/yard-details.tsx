@@ -3,17 +3,26 @@ import { Table, Td, Th } from "./ui/table";
 import { broodStatusName, formatServiceDate, visitStatusName } from "./format";
 import type { ColonySummary, YardSummary, YardVisit } from "~/models/yards.server";
 import { SafetyCautions } from "./safety-cautions";
+import { TreatmentPlanCard } from "./treatment-plan-card";
+import type { YardTreatmentPlan } from "~/domain/treatment-plan";
+import { formatDose, type UnitSystem } from "~/domain/units";
 
 /** A yard as customers and dispatchers see it: where, how to get in, colonies, visits. */
 export function YardDetails({
   yard,
   colonies,
   visits,
+  plan,
+  unitSystem,
+  doseRate,
   showCustomer = false,
 }: {
   yard: YardSummary;
   colonies: ColonySummary[];
   visits: YardVisit[];
+  plan: YardTreatmentPlan;
+  unitSystem: UnitSystem;
+  doseRate: number;
   showCustomer?: boolean;
 }) {
   return (
@@ -35,6 +44,7 @@ export function YardDetails({
       </div>
       <div className="grid gap-6 lg:grid-cols-3">
         <div className="flex min-w-0 flex-col gap-6 lg:col-span-2">
+          <TreatmentPlanCard plan={plan} unitSystem={unitSystem} doseRate={doseRate} />
           <Card title="Access">
             <p className="whitespace-pre-line">{yard.accessNotes || "No access notes."}</p>
             <p className="mt-2 text-ink-soft">
@@ -75,7 +85,7 @@ export function YardDetails({
                   <Th>Status</Th>
                   <Th align="right">Treated</Th>
                   <Th align="right">Skipped</Th>
-                  <Th align="right">Grams applied</Th>
+                  <Th align="right">Applied</Th>
                 </>
               }
             >
@@ -88,7 +98,7 @@ export function YardDetails({
                   <Td>{visitStatusName(visit.status)}</Td>
                   <Td align="right">{visit.treated}</Td>
                   <Td align="right">{visit.skipped}</Td>
-                  <Td align="right">{visit.grams.toFixed(1)} g</Td>
+                  <Td align="right">{formatDose(visit.grams, unitSystem)}</Td>
                 </tr>
               ))}
             </Table>

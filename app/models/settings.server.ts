@@ -1,5 +1,7 @@
 import type { Knex } from "knex";
 import { businessSettingsSchema, defaultBusinessSettings, type BusinessSettings } from "~/domain/settings";
+import { fieldErrors, type FieldErrors } from "~/forms/field-errors";
+import { settingsInputFromForm } from "~/forms/settings-form";
 
 const KEY = "business";
 
@@ -18,4 +20,41 @@ function pickValid(value: unknown): Partial<BusinessSettings> {
   return Object.fromEntries(
     Object.entries(value).filter(([key, v]) => key in shape && shape[key].safeParse(v).success),
   ) as Partial<BusinessSettings>;
+}
+
+/** Saves validated settings and records who changed what, in one transaction. */
+export async function saveBusinessSettings(db: Knex, settings: BusinessSettings, actorUserId: number | string) {
+  await db.transaction(async (trx) => {
+    const previous = await trx("settings").where({ key: KEY }).forUpdate().first("value");
+    await trx("settings")
+      .insert({ key: KEY, value: JSON.stringify(settings), updated_by: Number(actorUserId) })
+      .onConflict("key")
+      .merge({ value: JSON.stringify(settings), updated_by: Number(actorUserId), updated_at: trx.fn.now() });
+    await trx("audit_log").insert({
+      actor_user_id: Number(actorUserId),
+      action: "settings.update",
+      entity_type: "settings",
+      entity_id: KEY,
+      before: previous ? JSON.stringify(previous.value) : null,
+      after: JSON.stringify(settings),
+    });
+  });
+}
+
+/** Validates the posted settings form and saves it; on any invalid field nothing is saved
+ *  and the messages come back keyed by the form's field names. */
+export async function updateBusinessSettingsFromForm(
+  db: Knex,
+  values: Record<string, string | string[]>,
+  actorUserId: number | string,
+): Promise<{ ok: true; settings: BusinessSettings } | { ok: false; errors: FieldErrors }> {
+  const parsed = businessSettingsSchema.safeParse(settingsInputFromForm(values));
+  if (!parsed.success) {
+    const errors = fieldErrors(parsed.error);
+    // The form shows the tax rate in percent under its own name.
+    if (errors.taxRateBasisPoints) errors.taxRatePercent = "Enter a tax rate from 0 to 30 %.";
+    return { ok: false, errors };
+  }
+  await saveBusinessSettings(db, parsed.data, actorUserId);
+  return { ok: true, settings: parsed.data };
 }

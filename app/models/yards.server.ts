@@ -99,3 +99,15 @@ export async function listYardVisits(db: Knex, yardId: number): Promise<YardVisi
       db.raw("coalesce(sum(tallies.dose_grams), 0)::float as grams"),
     );
 }
+
+export type BookedRound = { roundNumber: number; date: string; status: "scheduled" | "deferred" | "in_progress" | "done" | "cancelled" };
+
+/** The rounds of the yard's current course (the newest one not cancelled), or none. */
+export async function currentCourseRounds(db: Knex, yardId: number): Promise<BookedRound[]> {
+  const course = await db("courses").where({ yard_id: yardId }).whereNot("status", "cancelled").orderBy("created_at", "desc").orderBy("id", "desc").first("id");
+  if (!course) return [];
+  return db("visits")
+    .where({ course_id: course.id })
+    .orderBy("round_number")
+    .select("round_number as roundNumber", "service_date as date", "status");
+}

@@ -1,10 +1,8 @@
-// "Today" for the business: service days are calendar dates in the business's time
-// zone, not the server's. VARROUTE_TIME_ZONE overrides the default until settings do.
-const DEFAULT_TIME_ZONE = "America/New_York";
+import type { Knex } from "knex";
+import { loadBusinessSettings } from "~/models/settings.server";
 
-export function businessTimeZone(): string {
-  return process.env.VARROUTE_TIME_ZONE || DEFAULT_TIME_ZONE;
-}
+// "Today" for the business: service days are calendar dates in the business's time
+// zone (from settings), not the server's.
 
 /** The calendar date (YYYY-MM-DD) at `instant` in `timeZone`. */
 export function dateInZone(instant: Date, timeZone: string): string {
@@ -13,6 +11,7 @@ export function dateInZone(instant: Date, timeZone: string): string {
   return `${get("year")}-${get("month")}-${get("day")}`;
 }
 
-export function businessToday(now = new Date()): string {
-  return dateInZone(now, businessTimeZone());
+export async function businessToday(db: Knex, now = new Date()): Promise<string> {
+  const settings = await loadBusinessSettings(db);
+  return dateInZone(now, settings.timeZone);
 }

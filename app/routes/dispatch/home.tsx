@@ -15,7 +15,7 @@ const DAYS_AHEAD = 21;
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, AREA_ROLES.dispatch);
-  const today = businessToday();
+  const today = await businessToday(db);
   const days = await serviceDaysAhead(db, today, DAYS_AHEAD);
   const lastDay = days.at(-1)?.serviceDate ?? today;
   const runs = await runsBetween(db, today, lastDay);

@@ -10,6 +10,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 const dispatchNav = (role: string) => [
   { to: "/dispatch", label: "Days ahead", end: true },
+  { to: "/dispatch/settings", label: "Settings" },
   ...(role === "owner" ? [{ to: "/office", label: "Office" }] : []),
 ];
 

@@ -1,6 +1,7 @@
 import { Link } from "react-router";
 import { YardDetails } from "~/components/yard-details";
-import { getYard, listColonies, listYardVisits } from "~/models/yards.server";
+import { yardPageData } from "~/models/yard-plan.server";
+import { getYard } from "~/models/yards.server";
 import { businessToday } from "~/services/clock.server";
 import { db } from "~/services/db.server";
 import { AREA_ROLES, requireRole } from "~/services/permissions.server";
@@ -10,9 +11,8 @@ export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.yard.na
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   await requireRole(request, AREA_ROLES.dispatch);
-  const yard = await getYard(db, params.yardId, businessToday());
-  const [colonies, visits] = await Promise.all([listColonies(db, yard.id), listYardVisits(db, yard.id)]);
-  return { yard, colonies, visits };
+  const yard = await getYard(db, params.yardId, await businessToday(db));
+  return yardPageData(db, yard);
 }
 
 export default function DispatchYard({ loaderData }: Route.ComponentProps) {

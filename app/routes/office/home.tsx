@@ -11,7 +11,7 @@ export const meta: Route.MetaFunction = () => [{ title: "Office · Varroute" }];
 
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, AREA_ROLES.office);
-  const today = businessToday();
+  const today = await businessToday(db);
   const [totals, overdue] = await Promise.all([invoiceTotals(db, today), overdueInvoices(db, today, 15)]);
   return { today, totals, overdue };
 }

@@ -15,7 +15,7 @@ export const meta: Route.MetaFunction = () => [{ title: "My yards · Varroute" }
 
 export async function loader({ request }: Route.LoaderArgs) {
   const user = await requireCustomer(request);
-  const today = businessToday();
+  const today = await businessToday(db);
   const [yards, visits, invoices, totals] = await Promise.all([
     listYardsForCustomer(db, user.customerId, today),
     upcomingVisitsForCustomer(db, user.customerId, today),

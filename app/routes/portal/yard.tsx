@@ -1,6 +1,7 @@
 import { Link } from "react-router";
 import { YardDetails } from "~/components/yard-details";
-import { listColonies, listYardVisits, getYardForCustomer } from "~/models/yards.server";
+import { yardPageData } from "~/models/yard-plan.server";
+import { getYardForCustomer } from "~/models/yards.server";
 import { businessToday } from "~/services/clock.server";
 import { db } from "~/services/db.server";
 import { requireCustomer } from "~/services/permissions.server";
@@ -10,9 +11,8 @@ export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.yard.na
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireCustomer(request);
-  const yard = await getYardForCustomer(db, user.customerId, params.yardId, businessToday());
-  const [colonies, visits] = await Promise.all([listColonies(db, yard.id), listYardVisits(db, yard.id)]);
-  return { yard, colonies, visits };
+  const yard = await getYardForCustomer(db, user.customerId, params.yardId, await businessToday(db));
+  return yardPageData(db, yard);
 }
 
 export default function PortalYard({ loaderData }: Route.ComponentProps) {

@@ -1,0 +1,61 @@
+import type { YardTreatmentPlan } from "~/domain/treatment-plan";
+import { formatDose, formatDuration, formatTemperature, type UnitSystem } from "~/domain/units";
+import { Card } from "./ui/card";
+import { formatServiceDate, visitStatusName } from "./format";
+
+/** The yard's treatment plan: doses, rounds with dates, time at the yard, vaporizer band. */
+export function TreatmentPlanCard({ plan, unitSystem, doseRate }: { plan: YardTreatmentPlan; unitSystem: UnitSystem; doseRate: number }) {
+  return (
+    <Card title="Treatment plan">
+      <dl className="grid grid-cols-1 gap-x-6 gap-y-3 sm:grid-cols-2">
+        <div>
+          <dt className="text-sm font-semibold text-ink-soft">Dose per colony</dt>
+          <dd className="text-lg font-bold" data-testid="dose-per-colony">
+            {formatDose(plan.dosePerColonyGrams, unitSystem)}
+          </dd>
+          <dd className="text-sm text-ink-soft">oxalic acid dihydrate, {formatDose(doseRate, unitSystem)} per brood box</dd>
+        </div>
+        <div>
+          <dt className="text-sm font-semibold text-ink-soft">Dose per round, whole yard</dt>
+          <dd className="text-lg font-bold" data-testid="dose-per-round">
+            {formatDose(plan.dosePerRoundGrams, unitSystem)}
+          </dd>
+          <dd className="text-sm text-ink-soft">= {formatDose(plan.anhydrousPerRoundGrams, unitSystem)} as anhydrous oxalic acid</dd>
+        </div>
+        <div>
+          <dt className="text-sm font-semibold text-ink-soft">Acid for the whole course</dt>
+          <dd className="text-lg font-bold" data-testid="dose-for-course">
+            {formatDose(plan.doseForCourseGrams, unitSystem)}
+          </dd>
+        </div>
+        <div>
+          <dt className="text-sm font-semibold text-ink-soft">Time at the yard per round</dt>
+          <dd className="text-lg font-bold" data-testid="service-time">
+            {formatDuration(plan.serviceMinutesPerRound)}
+          </dd>
+          <dd className="text-sm text-ink-soft">
+            with {plan.vaporizers} vaporizer{plan.vaporizers === 1 ? "" : "s"}, block at {formatTemperature(plan.blockBand.minC, unitSystem)}–
+            {formatTemperature(plan.blockBand.maxC, unitSystem)}
+          </dd>
+        </div>
+      </dl>
+      <h3 className="mt-4 font-bold">{plan.roundsBooked ? "Rounds booked" : "Rounds if treated from the next visit"}</h3>
+      <ol className="mt-2 flex flex-wrap gap-2" aria-label="Treatment rounds">
+        {plan.rounds.map((round) => (
+          <li key={round.roundNumber} className="rounded-lg border border-line bg-paper px-3 py-2">
+            <span className="block text-sm font-semibold">Round {round.roundNumber}</span>
+            <span className="block">{formatServiceDate(round.date)}</span>
+            {plan.roundsBooked ? <span className="block text-sm text-ink-soft">{visitStatusName(round.status)}</span> : null}
+          </li>
+        ))}
+      </ol>
+      {plan.blockBandProblems.length ? (
+        <ul className="mt-3 list-disc pl-5 text-sm text-alarm-700">
+          {plan.blockBandProblems.map((p) => (
+            <li key={p.message}>{p.message}</li>
+          ))}
+        </ul>
+      ) : null}
+    </Card>
+  );
+}

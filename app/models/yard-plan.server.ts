@@ -1,0 +1,22 @@
+import type { Knex } from "knex";
+import { yardTreatmentPlan } from "~/domain/treatment-plan";
+import { dateInZone } from "~/services/clock.server";
+import { loadBusinessSettings } from "./settings.server";
+import { currentCourseRounds, listColonies, listYardVisits, type YardSummary } from "./yards.server";
+
+/** Everything a yard page shows: colonies, visits, and the treatment plan in the business's units. */
+export async function yardPageData(db: Knex, yard: YardSummary) {
+  const [settings, colonies, visits, bookedRounds] = await Promise.all([
+    loadBusinessSettings(db),
+    listColonies(db, yard.id),
+    listYardVisits(db, yard.id),
+    currentCourseRounds(db, yard.id),
+  ]);
+  const today = dateInZone(new Date(), settings.timeZone);
+  const plan = yardTreatmentPlan(
+    { colonies: yard.colonyCount, broodBoxesPerColony: yard.broodBoxesPerColony, broodStatus: yard.broodStatus as "brood" | "broodless" | "unknown" },
+    settings,
+    { firstDate: yard.nextVisitDate ?? today, bookedRounds },
+  );
+  return { yard, colonies, visits, plan, unitSystem: settings.unitSystem, doseRate: settings.doseGramsPerBroodBox };
+}

@@ -1,0 +1,62 @@
+import { afterAll, beforeEach, describe, expect, it } from "vitest";
+import { defaultBusinessSettings } from "~/domain/settings";
+import { settingsFormDefaults } from "~/forms/settings-form";
+import { loadBusinessSettings, updateBusinessSettingsFromForm } from "~/models/settings.server";
+import { db } from "~/services/db.server";
+import { resetDatabase } from "./reset-database";
+
+afterAll(() => db.destroy());
+
+let ownerId: number;
+beforeEach(async () => {
+  await resetDatabase(db);
+  const [owner] = await db("users").insert({ email: "owner@example.test", password_hash: "x", role: "owner", name: "Owner" }).returning("id");
+  ownerId = owner.id;
+});
+
+const form = (changes: Record<string, string>) => ({ ...settingsFormDefaults(defaultBusinessSettings), ...changes });
+
+describe("business settings", () => {
+  it("uses the defaults until the owner saves", async () => {
+    expect(await loadBusinessSettings(db)).toEqual(defaultBusinessSettings);
+  });
+
+  it("saves a valid change with an audit entry, converting dollars and percent", async () => {
+    const result = await updateBusinessSettingsFromForm(
+      db,
+      form({ doseGramsPerBroodBox: "2", labelMaximumGramsPerBroodBox: "4", unitSystem: "metric", pricePerColonyCents: "12.50", taxRatePercent: "8.875" }),
+      ownerId,
+    );
+    expect(result.ok).toBe(true);
+    const saved = await loadBusinessSettings(db);
+    expect(saved).toMatchObject({ doseGramsPerBroodBox: 2, labelMaximumGramsPerBroodBox: 4, unitSystem: "metric", pricePerColonyCents: 1250, taxRateBasisPoints: 888 });
+    const audit = await db("audit_log").where({ entity_type: "settings", action: "settings.update" });
+    expect(audit).toHaveLength(1);
+    expect(audit[0].actor_user_id).toBe(ownerId);
+  });
+
+  it.each([
+    [{ doseGramsPerBroodBox: "2" }, "doseGramsPerBroodBox", /label maximum/i],
+    [{ roundIntervalDays: "30" }, "roundIntervalDays", /at most 10/],
+    [{ blockMinC: "150" }, "blockMinC", /157/],
+    [{ averageSpeedKmh: "" }, "averageSpeedKmh", /as a number/],
+    [{ timeZone: "Mars/Olympus" }, "timeZone", /time zone/i],
+    [{ taxRatePercent: "45" }, "taxRatePercent", /tax rate/i],
+    [{ "miteThresholds.3.fromMonth": "", "miteThresholds.3.toMonth": "", "miteThresholds.3.mitesPer100": "" }, "miteThresholds", /No threshold covers January, November, December/],
+  ])("refuses %o with a message at %s and saves nothing", async (change, field, message) => {
+    const result = await updateBusinessSettingsFromForm(db, form(change), ownerId);
+    expect(result.ok).toBe(false);
+    if (result.ok) return;
+    expect(result.errors[field]).toMatch(message);
+    expect(await db("settings").count("* as n").first()).toEqual({ n: 0 });
+    expect(await db("audit_log").count("* as n").first()).toEqual({ n: 0 });
+  });
+
+  it("keeps the last good settings when a later save is refused", async () => {
+    await updateBusinessSettingsFromForm(db, form({ sublimationSeconds: "40" }), ownerId);
+    const refused = await updateBusinessSettingsFromForm(db, form({ sublimationSeconds: "40", setupMinutes: "-5" }), ownerId);
+    expect(refused.ok).toBe(false);
+    expect((await loadBusinessSettings(db)).sublimationSeconds).toBe(40);
+    expect((await loadBusinessSettings(db)).setupMinutes).toBe(defaultBusinessSettings.setupMinutes);
+  });
+});
