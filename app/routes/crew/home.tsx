@@ -2,7 +2,7 @@ import { Card, PageHeader, Stat } from "~/components/ui/card";
 import { formatClock, formatServiceDate } from "~/components/format";
 import { SafetyCautions } from "~/components/safety-cautions";
 import { doseGramsForRun, doseGramsForYard } from "~/domain/dose";
-import { formatDistance, formatDose, formatDuration } from "~/domain/units";
+import { formatDistance, formatDose, formatDuration, formatTemperature } from "~/domain/units";
 import { nextPublishedRunDate, publishedRunForCrew } from "~/models/runs.server";
 import { loadBusinessSettings } from "~/models/settings.server";
 import { dateInZone } from "~/services/clock.server";
@@ -28,7 +28,15 @@ export async function loader({ request }: Route.LoaderArgs) {
     crewName: run?.crewName ?? null,
     run: run ? { ...run, stops, grams: doseGramsForRun(stops.map((s) => s.grams)) } : null,
     nextRunDate,
-    settings: { unitSystem: settings.unitSystem, timeZone: settings.timeZone },
+    settings: {
+      unitSystem: settings.unitSystem,
+      timeZone: settings.timeZone,
+      blockMinC: settings.blockMinC,
+      blockMaxC: settings.blockMaxC,
+      sublimationSeconds: settings.sublimationSeconds,
+      entranceClosedMinutes: settings.entranceClosedMinutes,
+      doseGramsPerBroodBox: settings.doseGramsPerBroodBox,
+    },
   };
 }
 
@@ -79,6 +87,19 @@ export default function CrewHome({ loaderData }: Route.ComponentProps) {
           </li>
         ))}
       </ol>
+      <Card title="Vaporizer" className="mb-6">
+        <ul className="flex flex-col gap-1 text-lg">
+          <li>
+            Block at <strong>{formatTemperature(settings.blockMinC, settings.unitSystem)}–{formatTemperature(settings.blockMaxC, settings.unitSystem)}</strong> before each dose
+          </li>
+          <li>
+            <strong>{formatDose(settings.doseGramsPerBroodBox, settings.unitSystem)}</strong> per brood box; a dose takes about <strong>{settings.sublimationSeconds} s</strong>
+          </li>
+          <li>
+            Keep the entrance closed <strong>{settings.entranceClosedMinutes} min</strong> after the dose
+          </li>
+        </ul>
+      </Card>
       <SafetyCautions audience="crew" />
     </>
   );
