@@ -12,6 +12,7 @@ export function ErrorPage({ status, detail }: { status: number; detail?: string 
   const known = TITLES[status] ?? { title: `Error ${status}`, text: "The request could not be completed." };
   return (
     <main className="mx-auto flex min-h-[70vh] max-w-xl flex-col items-start justify-center gap-4 p-6" role="alert">
+      <title>{`${known.title} · Varroute`}</title>
       <LogoMark className="h-12 w-12" />
       <p className="text-sm font-semibold tracking-wide text-ochre-700 uppercase">Error {status}</p>
       <h1 className="text-3xl font-bold">{known.title}</h1>

@@ -14,9 +14,10 @@ const globalForDb = globalThis as unknown as { __varrouteDb?: Knex };
 export const db: Knex = globalForDb.__varrouteDb ?? knex(config);
 if (process.env.NODE_ENV !== "production") globalForDb.__varrouteDb = db;
 
-export async function databaseIsUp(): Promise<{ ok: boolean; error?: string }> {
+/** Whether the database answers a trivial query within a few seconds. */
+export async function databaseIsUp(database: Knex = db): Promise<{ ok: boolean; error?: string }> {
   try {
-    await db.raw("select 1");
+    await database.raw("select 1").timeout(5000, { cancel: true });
     return { ok: true };
   } catch (error) {
     return { ok: false, error: error instanceof Error ? error.message : String(error) };

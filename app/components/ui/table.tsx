@@ -4,7 +4,8 @@ import type { ReactNode } from "react";
 export function Table({ caption, head, children, empty }: { caption: string; head: ReactNode; children: ReactNode; empty?: string }) {
   const hasRows = Array.isArray(children) ? children.length > 0 : Boolean(children);
   return (
-    <div className="overflow-x-auto rounded-xl border border-line bg-card">
+    // Focusable so keyboard users can scroll a table wider than a phone screen.
+    <div className="overflow-x-auto rounded-xl border border-line bg-card" role="region" aria-label={caption} tabIndex={0}>
       <table className="w-full border-collapse text-left text-sm sm:text-base">
         <caption className="sr-only">{caption}</caption>
         <thead className="bg-pine-50 text-pine-900">

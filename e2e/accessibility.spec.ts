@@ -1,0 +1,46 @@
+import AxeBuilder from "@axe-core/playwright";
+import type { Page } from "@playwright/test";
+import { DEMO, expect, queryTestDatabase, signIn, test, type DemoRole } from "./fixtures";
+
+// An automated accessibility check (axe-core) on every page that exists: no serious or
+// critical problems, at desktop and phone widths.
+async function expectNoSeriousProblems(page: Page, what: string) {
+  const results = await new AxeBuilder({ page }).analyze();
+  const serious = results.violations
+    .filter((v) => v.impact === "serious" || v.impact === "critical")
+    .map((v) => `${v.id}: ${v.help} (${v.nodes.map((n) => n.target.join(" ")).join(", ")})`);
+  expect(serious, what).toEqual([]);
+}
+
+test("public pages", async ({ page }) => {
+  for (const path of ["/", "/sign-in", "/sign-up", "/no-such-page"]) {
+    await page.goto(path);
+    await expectNoSeriousProblems(page, path);
+  }
+});
+
+const PAGES: Record<DemoRole, string[]> = {
+  owner: ["/dispatch", "/dispatch/settings", "/office"],
+  dispatcher: ["/dispatch", "/dispatch/settings"],
+  office: ["/office"],
+  crew: ["/crew"],
+  customer: ["/portal"],
+};
+
+for (const role of Object.keys(PAGES) as DemoRole[]) {
+  test(`${role} pages at 1280 and 390 px`, async ({ page }) => {
+    const [yard] = await queryTestDatabase<{ id: number }>(
+      "select yards.id from yards join customers on customers.id = yards.customer_id join users on users.id = customers.user_id where users.email = $1 order by yards.id limit 1",
+      [DEMO.customer],
+    );
+    const extra = role === "customer" ? [`/portal/yards/${yard.id}`] : role === "dispatcher" ? [`/dispatch/yards/${yard.id}`] : [];
+    await signIn(page, DEMO[role]);
+    for (const width of [1280, 390]) {
+      await page.setViewportSize({ width, height: 900 });
+      for (const path of [...PAGES[role], ...extra]) {
+        await page.goto(path);
+        await expectNoSeriousProblems(page, `${role} ${path} at ${width} px`);
+      }
+    }
+  });
+}
