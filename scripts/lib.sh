@@ -98,9 +98,18 @@ start_service() { # name port command...
   say "$name answering on 127.0.0.1:$port"
 }
 
+# Asks a process to stop, and kills it if it is still there after 5 seconds (the app
+# server waits for open database and keep-alive connections before it exits on its own).
+stop_process() {
+  kill "$1" 2>/dev/null || return 0
+  tries=0
+  while kill -0 "$1" 2>/dev/null && [ $tries -lt 50 ]; do sleep 0.1; tries=$((tries + 1)); done
+  kill -9 "$1" 2>/dev/null || true
+}
+
 stop_services() {
-  for pid in $SERVICE_PIDS; do kill "$pid" 2>/dev/null || true; done
-  for pid in $SERVICE_PIDS; do wait "$pid" 2>/dev/null || true; done
+  trap '' INT TERM # a second Ctrl-C must not cut the clean-up short
+  for pid in $SERVICE_PIDS; do stop_process "$pid"; done
   SERVICE_PIDS=""
   if [ -n "$STARTED_PG" ]; then
     sh scripts/pg.sh stop >/dev/null 2>&1 && say "PostgreSQL stopped" || true
