@@ -14,7 +14,11 @@ export default [
   ...prefix("portal", [
     layout("routes/portal/layout.tsx", [
       index("routes/portal/home.tsx"),
+      route("yards/new", "routes/portal/yard-new.tsx"),
       route("yards/:yardId", "routes/portal/yard.tsx"),
+      route("yards/:yardId/edit", "routes/portal/yard-edit.tsx"),
+      route("book", "routes/portal/book.tsx"),
+      route("bookings", "routes/portal/bookings.tsx"),
     ]),
   ]),
 
@@ -23,12 +27,33 @@ export default [
       index("routes/dispatch/home.tsx"),
       route("yards/:yardId", "routes/dispatch/yard.tsx"),
       route("settings", "routes/dispatch/settings.tsx"),
+      route("calendar", "routes/dispatch/calendar.tsx"),
+      route("map", "routes/dispatch/map.tsx"),
+      route("customers", "routes/dispatch/customers.tsx"),
+      route("yards", "routes/dispatch/yards.tsx"),
+      route("visits/:visitId", "routes/dispatch/visit.tsx"),
     ]),
   ]),
 
   ...prefix("crew", [layout("routes/crew/layout.tsx", [index("routes/crew/home.tsx")])]),
 
-  ...prefix("office", [layout("routes/office/layout.tsx", [index("routes/office/home.tsx")])]),
+  ...prefix("office", [
+    layout("routes/office/layout.tsx", [
+      index("routes/office/home.tsx"),
+      route("customers", "routes/office/customers.tsx"),
+      route("customers/import", "routes/office/customers-import.tsx"),
+    ]),
+  ]),
+
+  ...prefix("api", [
+    route("capacity", "routes/api/capacity.ts"),
+    route("visits", "routes/api/visits.ts"),
+    route("runs/:runId/gpx", "routes/api/run-gpx.ts"),
+    route("runs/:runId/ics", "routes/api/run-ics.ts"),
+    route("base-map", "routes/api/base-map.ts"),
+    route("attachments/:attachmentId", "routes/api/attachment.ts"),
+    route("customers.csv", "routes/api/customers-csv.ts"),
+  ]),
 
   route("healthz", "routes/api/healthz.ts"),
   route("*", "routes/public/not-found.tsx"),

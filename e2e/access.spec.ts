@@ -15,6 +15,8 @@ const staffOnly =
   (...roles: DemoRole[]) =>
   (who: Visitor): Outcome =>
     who === "anonymous" ? "sign-in" : roles.includes(who) ? "allowed" : "refused";
+const runExport = (who: Visitor): Outcome =>
+  who === "anonymous" ? "sign-in" : ["dispatcher", "owner", "crew"].includes(who) ? "allowed" : "not-found";
 const publicForm = (who: Visitor): Outcome => (who === "anonymous" ? "allowed" : { redirect: HOMES[who as DemoRole] });
 
 const RULES: Record<string, Rule> = {
@@ -26,14 +28,36 @@ const RULES: Record<string, Rule> = {
   "routes/portal/layout.tsx": { outcome: staffOnly("customer") },
   "routes/portal/home.tsx": { outcome: staffOnly("customer") },
   "routes/portal/yard.tsx": { outcome: staffOnly("customer") },
+  "routes/portal/yard-new.tsx": { outcome: staffOnly("customer") },
+  "routes/portal/yard-edit.tsx": { outcome: staffOnly("customer") },
+  "routes/portal/book.tsx": { outcome: staffOnly("customer") },
+  "routes/portal/bookings.tsx": { outcome: staffOnly("customer") },
   "routes/dispatch/layout.tsx": { outcome: staffOnly("dispatcher", "owner") },
   "routes/dispatch/home.tsx": { outcome: staffOnly("dispatcher", "owner") },
   "routes/dispatch/yard.tsx": { outcome: staffOnly("dispatcher", "owner") },
   "routes/dispatch/settings.tsx": { outcome: staffOnly("dispatcher", "owner") },
+  "routes/dispatch/calendar.tsx": { outcome: staffOnly("dispatcher", "owner") },
+  "routes/dispatch/map.tsx": { outcome: staffOnly("dispatcher", "owner") },
+  "routes/dispatch/customers.tsx": { outcome: staffOnly("dispatcher", "owner") },
+  "routes/dispatch/yards.tsx": { outcome: staffOnly("dispatcher", "owner") },
+  "routes/dispatch/visit.tsx": { outcome: staffOnly("dispatcher", "owner") },
   "routes/crew/layout.tsx": { outcome: staffOnly("crew") },
   "routes/crew/home.tsx": { outcome: staffOnly("crew") },
   "routes/office/layout.tsx": { outcome: staffOnly("office", "owner") },
   "routes/office/home.tsx": { outcome: staffOnly("office", "owner") },
+  "routes/office/customers.tsx": { outcome: staffOnly("office", "owner") },
+  "routes/office/customers-import.tsx": { outcome: staffOnly("office", "owner") },
+  // Remaining colonies per day: customers book from it, staff plan with it.
+  "routes/api/capacity.ts": { outcome: staffOnly("customer", "dispatcher", "office", "owner") },
+  // Outlines under every map: any signed-in user.
+  "routes/api/base-map.ts": { outcome: staffOnly("customer", "crew", "dispatcher", "office", "owner") },
+  // A photo: its yard's customer, staff, and the crew (checked per photo, see attachments tests).
+  "routes/api/attachment.ts": { outcome: staffOnly("customer", "crew", "dispatcher", "office", "owner") },
+  "routes/api/visits.ts": { outcome: staffOnly("dispatcher", "owner") },
+  // A run's exports: dispatch, and the crew of that (published) run; to anyone else it does not exist.
+  "routes/api/run-gpx.ts": { outcome: runExport },
+  "routes/api/run-ics.ts": { outcome: runExport },
+  "routes/api/customers-csv.ts": { outcome: staffOnly("office", "owner", "dispatcher") },
   "routes/api/healthz.ts": { outcome: () => "allowed" },
   "routes/public/not-found.tsx": { outcome: () => "not-found" },
 };
@@ -58,7 +82,10 @@ function allRoutes(entries: RouteConfigEntry[], base = "/"): Page[] {
 
 const ROUTES = allRoutes(routes);
 
-let ids: { ownYard: number; otherYard: number; otherYardName: string };
+let ids: { ownYard: number; otherYard: number; otherYardName: string; visit: number; attachment: number; otherAttachment: number; run: number };
+
+// A 1×1 PNG, stored as a photo of the demo customer's yard that is on the demo crew's run.
+const PNG = Buffer.from("89504e470d0a1a0a0000000d4948445200000001000000010806000000" + "1f15c4890000000d49444154789c6360000002000100ffff03000006000557bfabd40000000049454e44ae426082", "hex");
 const sessions = new Map<Visitor, APIRequestContext>();
 
 test.beforeAll(async ({ playwright, baseURL }) => {
@@ -69,11 +96,39 @@ test.beforeAll(async ({ playwright, baseURL }) => {
     [DEMO.customer],
   );
   const other = await client.query(
-    "select yards.id, yards.name from yards join customers on customers.id = yards.customer_id left join users on users.id = customers.user_id where users.email is distinct from $1 order by yards.id limit 1",
-    [DEMO.customer],
+    `select yards.id, yards.name from yards join customers on customers.id = yards.customer_id left join users on users.id = customers.user_id
+     where users.email is distinct from $1
+       and not exists (select 1 from visits v join stops s on s.visit_id = v.id join runs r on r.id = s.run_id
+                       join crew_members cm on cm.crew_id = r.crew_id join users cu on cu.id = cm.user_id
+                       where v.yard_id = yards.id and cu.email = $2)
+     order by yards.id limit 1`,
+    [DEMO.customer, DEMO.crew],
+  );
+  const onRun = await client.query(
+    `select visits.yard_id, visits.id as visit_id, runs.id as run_id from stops join runs on runs.id = stops.run_id join visits on visits.id = stops.visit_id
+       join yards on yards.id = visits.yard_id join customers on customers.id = yards.customer_id join users cu on cu.id = customers.user_id
+       join crew_members cm on cm.crew_id = runs.crew_id join users crew on crew.id = cm.user_id
+     where cu.email = $1 and crew.email = $2 and runs.status = 'published' order by runs.service_date limit 1`,
+    [DEMO.customer, DEMO.crew],
+  );
+  const photo = await client.query(
+    "insert into attachments (yard_id, original_name, content_type, byte_size, content) values ($1, 'gate.png', 'image/png', $2, $3) returning id",
+    [onRun.rows[0].yard_id, PNG.length, PNG],
+  );
+  const otherPhoto = await client.query(
+    "insert into attachments (yard_id, original_name, content_type, byte_size, content) values ($1, 'other.png', 'image/png', $2, $3) returning id",
+    [other.rows[0].id, PNG.length, PNG],
   );
   await client.end();
-  ids = { ownYard: Number(own.rows[0].id), otherYard: Number(other.rows[0].id), otherYardName: other.rows[0].name };
+  ids = {
+    ownYard: Number(own.rows[0].id),
+    otherYard: Number(other.rows[0].id),
+    otherYardName: other.rows[0].name,
+    visit: Number(onRun.rows[0].visit_id),
+    attachment: Number(photo.rows[0].id),
+    otherAttachment: Number(otherPhoto.rows[0].id),
+    run: Number(onRun.rows[0].run_id),
+  };
 
   sessions.set("anonymous", await playwright.request.newContext({ baseURL, maxRedirects: 0 }));
   for (const role of Object.keys(DEMO) as DemoRole[]) {
@@ -95,7 +150,12 @@ test("every route in the route config has an access rule", () => {
 });
 
 function concrete(path: string): string {
-  return path.replace(":yardId", String(ids.ownYard)).replace("*", "no-such-page");
+  return path
+    .replace(":yardId", String(ids.ownYard))
+    .replace(":visitId", String(ids.visit))
+    .replace(":attachmentId", String(ids.attachment))
+    .replace(":runId", String(ids.run))
+    .replace("*", "no-such-page");
 }
 
 for (const visitor of ["anonymous", ...Object.keys(DEMO)] as Visitor[]) {
@@ -131,6 +191,12 @@ test("a customer asking for another customer's yard gets 404, the same as for a 
   expect(await other.text()).not.toContain(ids.otherYardName);
   expect((await customer.get("/portal/yards/999999999")).status()).toBe(404);
   expect((await customer.get("/portal/yards/not-a-number")).status()).toBe(404);
+  expect((await customer.get(`/portal/yards/${ids.otherYard}/edit`)).status()).toBe(404);
+  const photo = await customer.get(`/api/attachments/${ids.attachment}`);
+  expect(photo.status()).toBe(200);
+  expect(photo.headers()["content-type"]).toBe("image/png");
+  expect((await customer.get(`/api/attachments/${ids.otherAttachment}`)).status()).toBe(404);
+  expect((await sessions.get("crew")!.get(`/api/attachments/${ids.otherAttachment}`)).status()).toBe(404);
 });
 
 test("signing out by POST ends the session", async ({ playwright, baseURL }) => {

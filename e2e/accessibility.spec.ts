@@ -21,10 +21,10 @@ test("public pages", async ({ page }) => {
 
 const PAGES: Record<DemoRole, string[]> = {
   owner: ["/dispatch", "/dispatch/settings", "/office"],
-  dispatcher: ["/dispatch", "/dispatch/settings"],
-  office: ["/office"],
+  dispatcher: ["/dispatch", "/dispatch/settings", "/dispatch/calendar", "/dispatch/map", "/dispatch/customers", "/dispatch/yards"],
+  office: ["/office", "/office/customers", "/office/customers/import"],
   crew: ["/crew"],
-  customer: ["/portal"],
+  customer: ["/portal", "/portal/book", "/portal/bookings", "/portal/yards/new"],
 };
 
 for (const role of Object.keys(PAGES) as DemoRole[]) {
@@ -33,12 +33,20 @@ for (const role of Object.keys(PAGES) as DemoRole[]) {
       "select yards.id from yards join customers on customers.id = yards.customer_id join users on users.id = customers.user_id where users.email = $1 order by yards.id limit 1",
       [DEMO.customer],
     );
-    const extra = role === "customer" ? [`/portal/yards/${yard.id}`] : role === "dispatcher" ? [`/dispatch/yards/${yard.id}`] : [];
+    const [visit] = await queryTestDatabase<{ id: number }>("select id from visits where status = 'scheduled' order by service_date, id limit 1");
+    const extra =
+      role === "customer"
+        ? [`/portal/yards/${yard.id}`, `/portal/yards/${yard.id}/edit`]
+        : role === "dispatcher"
+          ? [`/dispatch/yards/${yard.id}`, `/dispatch/visits/${visit.id}`]
+          : [];
     await signIn(page, DEMO[role]);
     for (const width of [1280, 390]) {
       await page.setViewportSize({ width, height: 900 });
       for (const path of [...PAGES[role], ...extra]) {
         await page.goto(path);
+        // Maps and calendars load after hydration: check them drawn, not their placeholders.
+        await page.waitForLoadState("networkidle");
         await expectNoSeriousProblems(page, `${role} ${path} at ${width} px`);
       }
     }

@@ -88,14 +88,38 @@ wait_for_port() {
   ' "$1" "$2"
 }
 
-# Background services started by this script (pid files in .run/), stopped on exit.
+# Whether something accepts connections on 127.0.0.1:PORT right now (no waiting).
+port_answers() {
+  node -e '
+    const s = require("node:net").connect(Number(process.argv[1]), "127.0.0.1");
+    s.setTimeout(1000, () => process.exit(1));
+    s.on("connect", () => { s.end(); process.exit(0); });
+    s.on("error", () => process.exit(1));
+  ' "$1"
+}
+
+# Background services started by this script (logs and pid files in .run/), stopped on exit.
 SERVICE_PIDS=""
 start_service() { # name port command...
   name=$1; port=$2; shift 2
   "$@" >"$RUN_DIR/$name.log" 2>&1 &
   SERVICE_PIDS="$SERVICE_PIDS $!"
+  echo $! >"$RUN_DIR/$name.pid"
   wait_for_port "$port" "$name" || { tail -20 "$RUN_DIR/$name.log" >&2; exit 1; }
   say "$name answering on 127.0.0.1:$port"
+}
+
+# A background service without a port (the worker): its pid is recorded so stop_services
+# stops it, and it must still be running a moment after the start.
+start_background() { # name command...
+  name=$1; shift
+  "$@" >"$RUN_DIR/$name.log" 2>&1 &
+  bg_pid=$!
+  SERVICE_PIDS="$SERVICE_PIDS $bg_pid"
+  echo "$bg_pid" >"$RUN_DIR/$name.pid"
+  sleep 1
+  kill -0 "$bg_pid" 2>/dev/null || { tail -20 "$RUN_DIR/$name.log" >&2; fail "$name stopped right after starting (log in .run/$name.log)"; }
+  say "$name running (log in .run/$name.log)"
 }
 
 # Asks a process to stop, and kills it if it is still there after 5 seconds (the app
@@ -109,15 +133,52 @@ stop_process() {
 
 stop_services() {
   trap '' INT TERM # a second Ctrl-C must not cut the clean-up short
-  for pid in $SERVICE_PIDS; do stop_process "$pid"; done
+  # Last started, first stopped: the app and the worker before the mail sink they use.
+  reversed=""
+  for pid in $SERVICE_PIDS; do reversed="$pid $reversed"; done
+  for pid in $reversed; do stop_process "$pid"; done
   SERVICE_PIDS=""
   if [ -n "$STARTED_PG" ]; then
     sh scripts/pg.sh stop >/dev/null 2>&1 && say "PostgreSQL stopped" || true
   fi
 }
 
+# The local SMTP sink: every e-mail the app sends locally lands here, readable in its web
+# UI and through its REST API (tests). Reused when one is already answering on both ports.
+MAILDEV_SMTP_PORT=11025
+MAILDEV_WEB_PORT=11080
+start_maildev() {
+  smtp_up=""; web_up=""
+  port_answers "$MAILDEV_SMTP_PORT" && smtp_up=1
+  port_answers "$MAILDEV_WEB_PORT" && web_up=1
+  if [ -n "$smtp_up" ] && [ -n "$web_up" ]; then
+    say "mail sink already running (SMTP 127.0.0.1:$MAILDEV_SMTP_PORT, web http://127.0.0.1:$MAILDEV_WEB_PORT)"
+    return 0
+  fi
+  if [ -n "$smtp_up$web_up" ]; then
+    fail "port $MAILDEV_SMTP_PORT or $MAILDEV_WEB_PORT is taken by something other than the mail sink; stop it and try again"
+  fi
+  start_service maildev "$MAILDEV_SMTP_PORT" ./node_modules/.bin/maildev \
+    --smtp "$MAILDEV_SMTP_PORT" --ip 127.0.0.1 --web "$MAILDEV_WEB_PORT" --web-ip 127.0.0.1
+  wait_for_port "$MAILDEV_WEB_PORT" "maildev web" || { tail -20 "$RUN_DIR/maildev.log" >&2; exit 1; }
+  say "mail sink web UI on http://127.0.0.1:$MAILDEV_WEB_PORT"
+}
+
 start_local_services() {
   start_postgres
+  start_maildev
+}
+
+# The background worker (e-mail delivery, visit reminders); needs a migrated database.
+# Waits until it works its queues, so e-mail sent right after this is delivered.
+start_worker() {
+  start_background worker node --import tsx scripts/worker.ts
+  tries=0
+  until grep -q 'working "send-email"' "$RUN_DIR/worker.log" 2>/dev/null; do
+    kill -0 "$bg_pid" 2>/dev/null || { tail -20 "$RUN_DIR/worker.log" >&2; fail "the worker stopped (log in .run/worker.log)"; }
+    tries=$((tries + 1)); [ $tries -gt 120 ] && { tail -20 "$RUN_DIR/worker.log" >&2; fail "the worker did not start within 60 s"; }
+    sleep 0.5
+  done
 }
 
 knex_cli() {

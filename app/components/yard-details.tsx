@@ -1,3 +1,4 @@
+import type { ReactNode } from "react";
 import { Card, PageHeader, Stat } from "./ui/card";
 import { Table, Td, Th } from "./ui/table";
 import { broodStatusName, formatServiceDate, visitStatusName } from "./format";
@@ -15,8 +16,12 @@ export function YardDetails({
   plan,
   unitSystem,
   doseRate,
+  photos = [],
+  actions,
   showCustomer = false,
 }: {
+  photos?: { id: number; name: string }[];
+  actions?: ReactNode;
   yard: YardSummary;
   colonies: ColonySummary[];
   visits: YardVisit[];
@@ -35,6 +40,7 @@ export function YardDetails({
             {yard.address ?? "No address given"} · {yard.lat.toFixed(5)}, {yard.lng.toFixed(5)}
           </>
         }
+        actions={actions}
       />
       <div className="mb-6 grid grid-cols-2 gap-3 lg:grid-cols-4">
         <Stat label="Colonies" value={yard.colonyCount} />
@@ -50,6 +56,17 @@ export function YardDetails({
             <p className="mt-2 text-ink-soft">
               Next visit: {yard.nextVisitDate ? formatServiceDate(yard.nextVisitDate) : "none booked"}
             </p>
+            {photos.length ? (
+              <ul className="mt-3 grid grid-cols-3 gap-2 sm:grid-cols-4" aria-label="Photos">
+                {photos.map((photo) => (
+                  <li key={photo.id}>
+                    <a href={`/api/attachments/${photo.id}`} className="block">
+                      <img src={`/api/attachments/${photo.id}`} alt={`Photo ${photo.name}`} loading="lazy" className="aspect-square w-full rounded-lg border border-line object-cover" />
+                    </a>
+                  </li>
+                ))}
+              </ul>
+            ) : null}
           </Card>
           <Card title="Colonies">
             <Table

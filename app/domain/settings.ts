@@ -103,6 +103,8 @@ export const businessSettingsSchema = z
     blockReheatSeconds: numberField("the block reheat time", 0, 600, "s").default(60),
     setupMinutes: numberField("the set-up time", 0, 120, "min").default(15),
     vaporizersPerCrew: wholeNumberField("vaporizers per crew", 1, 10).default(2),
+    typicalColoniesPerYard: wholeNumberField("the typical colonies per yard", 1, 50).default(5),
+    averageDriveMinutesBetweenYards: numberField("the average drive between yards", 0, 180, "min").default(20),
     blockMinC: numberField("the lowest block temperature", 0, 400, "°C").default(230),
     blockMaxC: numberField("the highest block temperature", 0, 400, "°C").default(240),
 
@@ -286,6 +288,16 @@ export const settingsFieldInfo: Record<keyof BusinessSettings, SettingsFieldInfo
     label: "Vaporizers per crew",
     unit: "vaporizers",
     explanation: "Vaporizers a crew works with at once; hives are dosed side by side.",
+  },
+  typicalColoniesPerYard: {
+    label: "Typical colonies per yard",
+    unit: "colonies",
+    explanation: "Used to estimate how many colonies a crew-day can take before the route is planned: a day is filled with yards of this size.",
+  },
+  averageDriveMinutesBetweenYards: {
+    label: "Average drive between yards",
+    unit: "min",
+    explanation: "Used with the typical yard to estimate a crew-day's room for bookings; the route planner uses real drive times.",
   },
   blockMinC: {
     label: "Lowest block temperature",

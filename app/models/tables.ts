@@ -261,6 +261,12 @@ export interface EmailLogRow extends Stamps {
   last_error: string | null;
   dedupe_key: string | null;
   sent_at: Date | null;
+  /** The message as sent: HTML and plain-text bodies (null on rows from before the outbox). */
+  html: string | null;
+  text_body: string | null;
+  attachments: { filename: string; contentType: string; contentBase64: string }[] | null;
+  /** When the sweep should (re)try a queued or failed message; null once sent or given up. */
+  next_attempt_at: Date | null;
 }
 
 export interface WebhookEventRow {
@@ -268,6 +274,16 @@ export interface WebhookEventRow {
   type: string;
   payload: unknown;
   received_at: Date;
+}
+
+export interface ServiceDayRow {
+  service_date: string;
+  capacity_colonies: number | null;
+  closed: boolean;
+  note: string | null;
+  updated_by: Id | null;
+  created_at: Date;
+  updated_at: Date;
 }
 
 export interface AuditLogRow {
@@ -305,5 +321,6 @@ declare module "knex/types/tables" {
     email_log: EmailLogRow;
     webhook_events: WebhookEventRow;
     audit_log: AuditLogRow;
+    service_days: ServiceDayRow;
   }
 }

@@ -1,7 +1,20 @@
 import type { ReactNode } from "react";
 
 /** A plain data table that scrolls sideways on narrow screens instead of breaking the page. */
-export function Table({ caption, head, children, empty }: { caption: string; head: ReactNode; children: ReactNode; empty?: string }) {
+export function Table({
+  caption,
+  head,
+  children,
+  empty,
+  foot,
+}: {
+  caption: string;
+  head: ReactNode;
+  children: ReactNode;
+  empty?: string;
+  /** Rows for a `<tfoot>`, e.g. totals (left out when there are no rows). */
+  foot?: ReactNode;
+}) {
   const hasRows = Array.isArray(children) ? children.length > 0 : Boolean(children);
   return (
     // Focusable so keyboard users can scroll a table wider than a phone screen.
@@ -22,19 +35,45 @@ export function Table({ caption, head, children, empty }: { caption: string; hea
             </tr>
           )}
         </tbody>
+        {foot && hasRows ? <tfoot className="border-t-2 border-pine-700 bg-pine-50 font-semibold text-pine-900">{foot}</tfoot> : null}
       </table>
     </div>
   );
 }
 
-export function Th({ children, align = "left" }: { children: ReactNode; align?: "left" | "right" }) {
+export function Th({
+  children,
+  align = "left",
+  sort,
+  className = "",
+}: {
+  children: ReactNode;
+  align?: "left" | "right";
+  /** The column's sort state, announced to screen readers (aria-sort). */
+  sort?: "ascending" | "descending" | "none";
+  className?: string;
+}) {
   return (
-    <th scope="col" className={`px-3 py-2 font-semibold whitespace-nowrap ${align === "right" ? "text-right" : ""}`}>
+    <th scope="col" aria-sort={sort} className={`px-3 py-2 font-semibold whitespace-nowrap ${align === "right" ? "text-right" : ""} ${className}`}>
       {children}
     </th>
   );
 }
 
-export function Td({ children, align = "left", className = "" }: { children: ReactNode; align?: "left" | "right"; className?: string }) {
-  return <td className={`px-3 py-2 ${align === "right" ? "text-right tabular-nums" : ""} ${className}`}>{children}</td>;
+export function Td({
+  children,
+  align = "left",
+  className = "",
+  colSpan,
+}: {
+  children: ReactNode;
+  align?: "left" | "right";
+  className?: string;
+  colSpan?: number;
+}) {
+  return (
+    <td colSpan={colSpan} className={`px-3 py-2 ${align === "right" ? "text-right tabular-nums" : ""} ${className}`}>
+      {children}
+    </td>
+  );
 }

@@ -10,6 +10,10 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 const dispatchNav = (role: string) => [
   { to: "/dispatch", label: "Days ahead", end: true },
+  { to: "/dispatch/calendar", label: "Calendar" },
+  { to: "/dispatch/map", label: "Map" },
+  { to: "/dispatch/customers", label: "Customers" },
+  { to: "/dispatch/yards", label: "Yards" },
   { to: "/dispatch/settings", label: "Settings" },
   ...(role === "owner" ? [{ to: "/office", label: "Office" }] : []),
 ];

@@ -18,8 +18,8 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 export default function DispatchYard({ loaderData }: Route.ComponentProps) {
   return (
     <>
-      <Link to="/dispatch" className="mb-3 inline-flex min-h-11 items-center font-semibold text-pine-800 underline">
-        ← Days ahead
+      <Link to="/dispatch/yards" className="mb-3 inline-flex min-h-11 items-center font-semibold text-pine-800 underline">
+        ← Yards
       </Link>
       <YardDetails {...loaderData} showCustomer />
     </>

@@ -11,6 +11,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 export default function OfficeLayout({ loaderData }: Route.ComponentProps) {
   const nav = [
     { to: "/office", label: "Money at a glance", end: true },
+    { to: "/office/customers", label: "Customers" },
     ...(loaderData.user.role === "owner" ? [{ to: "/dispatch", label: "Dispatch" }] : []),
   ];
   return (

@@ -1,4 +1,5 @@
 import { Link } from "react-router";
+import { buttonClass } from "~/components/ui/button";
 import { Card, PageHeader, Stat } from "~/components/ui/card";
 import { Table, Td, Th } from "~/components/ui/table";
 import { broodStatusName, formatCents, formatServiceDate, timePreferenceName, visitStatusName } from "~/components/format";
@@ -30,7 +31,22 @@ export default function PortalHome({ loaderData }: Route.ComponentProps) {
   const colonies = yards.reduce((sum, y) => sum + y.colonyCount, 0);
   return (
     <>
-      <PageHeader title={`Hello, ${loaderData.name.split(" ")[0]}`} subtitle="Your yards, your coming treatment visits and your invoices." />
+      <PageHeader
+        title={`Hello, ${loaderData.name.split(" ")[0]}`}
+        subtitle="Your yards, your coming treatment visits and your invoices."
+        actions={
+          <>
+            <Link to="/portal/yards/new" className={buttonClass("secondary")}>
+              Add a yard
+            </Link>
+            {yards.length ? (
+              <Link to="/portal/book" className={buttonClass("primary")}>
+                Book a treatment
+              </Link>
+            ) : null}
+          </>
+        }
+      />
       <div className="mb-6 grid grid-cols-2 gap-3 lg:grid-cols-4">
         <Stat label="Yards" value={yards.length} />
         <Stat label="Colonies" value={colonies} />

@@ -10,7 +10,11 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export default function PortalLayout({ loaderData }: Route.ComponentProps) {
   return (
-    <AppShell user={loaderData.user} nav={[{ to: "/portal", label: "My yards and visits", end: true }]}>
+    <AppShell user={loaderData.user} nav={[
+        { to: "/portal", label: "My yards and visits", end: true },
+        { to: "/portal/book", label: "Book a treatment" },
+        { to: "/portal/bookings", label: "My bookings" },
+      ]}>
       <Outlet />
     </AppShell>
   );

@@ -1,4 +1,6 @@
 import { Link } from "react-router";
+import { buttonClass } from "~/components/ui/button";
+import { FormMessage } from "~/components/ui/field";
 import { YardDetails } from "~/components/yard-details";
 import { yardPageData } from "~/models/yard-plan.server";
 import { getYardForCustomer } from "~/models/yards.server";
@@ -12,7 +14,7 @@ export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.yard.na
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireCustomer(request);
   const yard = await getYardForCustomer(db, user.customerId, params.yardId, await businessToday(db));
-  return yardPageData(db, yard);
+  return { ...(await yardPageData(db, yard)), saved: new URL(request.url).searchParams.has("saved") };
 }
 
 export default function PortalYard({ loaderData }: Route.ComponentProps) {
@@ -21,7 +23,26 @@ export default function PortalYard({ loaderData }: Route.ComponentProps) {
       <Link to="/portal" className="mb-3 inline-flex min-h-11 items-center font-semibold text-pine-800 underline">
         ← My yards
       </Link>
-      <YardDetails {...loaderData} />
+      {loaderData.saved ? (
+        <div className="mb-4">
+          <FormMessage tone="info" message="Changes saved." />
+        </div>
+      ) : null}
+      <YardDetails
+        {...loaderData}
+        actions={
+          <>
+            <Link to={`/portal/yards/${loaderData.yard.id}/edit`} className={buttonClass("secondary")}>
+              Edit yard and photos
+            </Link>
+            {loaderData.yard.nextVisitDate ? null : (
+              <Link to={`/portal/book?yard=${loaderData.yard.id}`} className={buttonClass("primary")}>
+                Book this yard
+              </Link>
+            )}
+          </>
+        }
+      />
     </>
   );
 }

@@ -1,0 +1,146 @@
+import dayGridPlugin from "@fullcalendar/daygrid";
+import interactionPlugin from "@fullcalendar/interaction";
+import FullCalendar from "@fullcalendar/react";
+import type { EventDropArg, EventInput, EventSourceFuncArg } from "@fullcalendar/core";
+import { useEffect, useMemo, useRef, useState } from "react";
+import { useFetcher, useNavigate } from "react-router";
+import type { CalendarVisit } from "~/models/visits.server";
+
+export const STATUS_STYLE: Record<string, { label: string; colour: string; text: string }> = {
+  scheduled: { label: "Scheduled", colour: "#175a43", text: "#ffffff" },
+  in_progress: { label: "In progress", colour: "#2b5d8a", text: "#ffffff" },
+  deferred: { label: "Deferred", colour: "#c7801a", text: "#17201c" },
+  done: { label: "Done", colour: "#d5d2c7", text: "#17201c" },
+  cancelled: { label: "Cancelled", colour: "#f6f4ee", text: "#5b6660" },
+};
+
+function iso(date: Date) {
+  return `${date.getFullYear()}-${String(date.getMonth() + 1).padStart(2, "0")}-${String(date.getDate()).padStart(2, "0")}`;
+}
+
+type ActionAnswer = { ok: boolean; errors: Record<string, string | undefined> };
+
+/** Every visit on a month or week calendar, filtered by crew and status; drag a visit to move it. */
+export default function VisitCalendar({ crews, initialDate }: { crews: { id: number; name: string }[]; initialDate: string }) {
+  const [crew, setCrew] = useState("all");
+  const [status, setStatus] = useState("open");
+  const [message, setMessage] = useState<{ tone: "error" | "info"; text: string } | null>(null);
+  const calendar = useRef<FullCalendar>(null);
+  const pendingRevert = useRef<(() => void) | null>(null);
+  const fetcher = useFetcher<ActionAnswer>();
+  const navigate = useNavigate();
+
+  useEffect(() => {
+    if (fetcher.state !== "idle" || !fetcher.data) return;
+    if (fetcher.data.ok) {
+      setMessage({ tone: "info", text: "Visit moved; the customer is being e-mailed." });
+    } else {
+      pendingRevert.current?.();
+      setMessage({ tone: "error", text: Object.values(fetcher.data.errors).filter(Boolean).join(" ") || "The visit could not be moved." });
+    }
+    pendingRevert.current = null;
+    calendar.current?.getApi().refetchEvents();
+  }, [fetcher.state, fetcher.data]);
+
+  useEffect(() => {
+    calendar.current?.getApi().refetchEvents();
+  }, [crew, status]);
+
+  const source = useMemo(
+    () => async (info: EventSourceFuncArg): Promise<EventInput[]> => {
+      const end = new Date(info.end);
+      end.setDate(end.getDate() - 1);
+      const response = await fetch(`/api/visits?from=${iso(info.start)}&to=${iso(end)}`);
+      if (!response.ok) throw new Error(`visits: ${response.status}`);
+      const { visits } = (await response.json()) as { visits: CalendarVisit[] };
+      return visits
+        .filter((v) => crew === "all" || (crew === "none" ? v.crewId === null : String(v.crewId) === crew))
+        .filter((v) => (status === "all" ? true : status === "open" ? v.status !== "cancelled" : v.status === status))
+        .map((v) => {
+          const style = STATUS_STYLE[v.status] ?? STATUS_STYLE.scheduled;
+          return {
+            id: String(v.id),
+            start: v.serviceDate,
+            allDay: true,
+            title: `${v.yardName} · ${v.colonies} col.${v.crewName ? ` · ${v.crewName}` : ""}`,
+            backgroundColor: style.colour,
+            borderColor: v.crewName ? "#17201c" : style.colour,
+            textColor: style.text,
+            startEditable: v.status === "scheduled" || v.status === "deferred",
+            extendedProps: { status: v.status },
+          };
+        });
+    },
+    [crew, status],
+  );
+
+  function onDrop(arg: EventDropArg) {
+    const toDate = arg.event.startStr.slice(0, 10);
+    pendingRevert.current = arg.revert;
+    setMessage(null);
+    fetcher.submit({ intent: "reschedule", toDate }, { method: "post", action: `/dispatch/visits/${arg.event.id}` });
+  }
+
+  return (
+    <div className="booking-calendar">
+      <div className="mb-3 flex flex-wrap items-end gap-3">
+        <label className="flex flex-col text-sm font-semibold">
+          Crew
+          <select value={crew} onChange={(e) => setCrew(e.target.value)} className="min-h-11 rounded-lg border-2 border-line bg-card px-2 text-base">
+            <option value="all">All crews</option>
+            <option value="none">Not on a run</option>
+            {crews.map((c) => (
+              <option key={c.id} value={c.id}>
+                {c.name}
+              </option>
+            ))}
+          </select>
+        </label>
+        <label className="flex flex-col text-sm font-semibold">
+          Status
+          <select value={status} onChange={(e) => setStatus(e.target.value)} className="min-h-11 rounded-lg border-2 border-line bg-card px-2 text-base">
+            <option value="open">All but cancelled</option>
+            <option value="all">All</option>
+            {Object.entries(STATUS_STYLE).map(([value, s]) => (
+              <option key={value} value={value}>
+                {s.label}
+              </option>
+            ))}
+          </select>
+        </label>
+        <ul className="flex flex-wrap gap-2 text-sm" aria-label="Colours">
+          {Object.entries(STATUS_STYLE).map(([value, s]) => (
+            <li key={value} className="flex items-center gap-1">
+              <span className="inline-block h-4 w-4 rounded border border-line" style={{ background: s.colour }} aria-hidden="true" />
+              {s.label}
+            </li>
+          ))}
+          <li className="flex items-center gap-1">
+            <span className="inline-block h-4 w-4 rounded border-2 border-ink" aria-hidden="true" /> dark edge: on a crew's run
+          </li>
+        </ul>
+      </div>
+      {message ? (
+        <p role={message.tone === "error" ? "alert" : "status"} className={`mb-3 rounded-lg border-2 px-3 py-2 font-semibold ${message.tone === "error" ? "border-alarm-700 bg-alarm-100 text-alarm-700" : "border-pine-600 bg-pine-50 text-pine-900"}`}>
+          {message.text}
+        </p>
+      ) : null}
+      <FullCalendar
+        ref={calendar}
+        plugins={[dayGridPlugin, interactionPlugin]}
+        initialView="dayGridMonth"
+        initialDate={initialDate}
+        height="auto"
+        headerToolbar={{ left: "title", center: "", right: "today dayGridMonth,dayGridWeek prev,next" }}
+        buttonText={{ today: "Today", month: "Month", week: "Week" }}
+        dayMaxEvents={4}
+        events={source}
+        eventDrop={onDrop}
+        eventClick={(arg) => {
+          arg.jsEvent.preventDefault();
+          navigate(`/dispatch/visits/${arg.event.id}`);
+        }}
+      />
+    </div>
+  );
+}

@@ -1,0 +1,34 @@
+import { z } from "zod";
+
+function numberFrom(label: string) {
+  return z.preprocess(
+    (v) => (typeof v === "string" && v.trim() !== "" ? Number(v.trim()) : v === undefined || v === "" ? Number.NaN : v),
+    z.number({ error: `Enter ${label} as a number.` }).refine(Number.isFinite, `Enter ${label} as a number.`),
+  );
+}
+
+/** A yard as the customer (or the office) enters it. */
+export const yardSchema = z.object({
+  name: z.string().trim().min(1, "Give the yard a name, e.g. “Home yard”.").max(80, "Keep the name under 80 characters."),
+  lat: numberFrom("the latitude").pipe(z.number().min(-90, "Latitude is between −90 and 90.").max(90, "Latitude is between −90 and 90.")),
+  lng: numberFrom("the longitude").pipe(z.number().min(-180, "Longitude is between −180 and 180.").max(180, "Longitude is between −180 and 180.")),
+  address: z
+    .string()
+    .trim()
+    .max(200, "Keep the address under 200 characters.")
+    .optional()
+    .transform((v) => (v ? v : null)),
+  colonyCount: numberFrom("the number of colonies").pipe(
+    z.number().int("Colonies are counted in whole hives.").min(0, "Colonies cannot be fewer than 0.").max(200, "Enter at most 200 colonies; call us for more."),
+  ),
+  broodBoxesPerColony: numberFrom("the brood boxes per colony").pipe(
+    z.number().int("Brood boxes are whole boxes.").min(0, "Brood boxes cannot be fewer than 0.").max(4, "Enter at most 4 brood boxes per colony."),
+  ),
+  broodStatus: z.enum(["brood", "broodless", "unknown"], { error: "Choose whether the colonies have brood." }),
+  supersOff: z.preprocess((v) => v === "on" || v === "true" || v === true, z.boolean()),
+  accessNotes: z.string().trim().max(2000, "Keep the access notes under 2,000 characters.").default(""),
+});
+
+export type YardInput = z.output<typeof yardSchema>;
+
+export const PHOTO_MAX_BYTES = 10 * 1024 * 1024;

@@ -1,0 +1,171 @@
+import { data, Form, Link, useNavigation } from "react-router";
+import { formatServiceDate, timePreferenceName, visitStatusName } from "~/components/format";
+import { SafetyCautions } from "~/components/safety-cautions";
+import { Button } from "~/components/ui/button";
+import { Card, PageHeader } from "~/components/ui/card";
+import { FormMessage } from "~/components/ui/field";
+import { fieldErrors, formValues, type FieldErrors } from "~/forms/field-errors";
+import { visitChangeSchema } from "~/forms/visit-change";
+import { cancelVisit, rescheduleVisit, VisitChangeRefused } from "~/models/visit-changes.server";
+import { getVisitDetail } from "~/models/visits.server";
+import { db } from "~/services/db.server";
+import { AREA_ROLES, requireRole } from "~/services/permissions.server";
+import type { Route } from "./+types/visit";
+
+export const meta: Route.MetaFunction = ({ data }) => [{ title: `Visit to ${data?.visit.yardName ?? "a yard"} · Varroute` }];
+
+async function loadVisit(visitId: string) {
+  const visit = /^\d+$/.test(visitId) ? await getVisitDetail(db, Number(visitId)) : null;
+  if (!visit) throw data("There is no visit with that number.", { status: 404 });
+  return visit;
+}
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  await requireRole(request, AREA_ROLES.dispatch);
+  return { visit: await loadVisit(params.visitId), changed: new URL(request.url).searchParams.get("changed") };
+}
+
+/** Move or cancel a visit. Answers JSON-ish data for the calendar's drag (fetcher) and the forms here. */
+export async function action({ request, params }: Route.ActionArgs) {
+  const user = await requireRole(request, AREA_ROLES.dispatch);
+  const visit = await loadVisit(params.visitId);
+  const values = formValues(await request.formData());
+  const parsed = visitChangeSchema.safeParse(values);
+  if (!parsed.success) return data({ ok: false as const, errors: fieldErrors(parsed.error), intent: String(values.intent ?? "") }, { status: 400 });
+  try {
+    if (parsed.data.intent === "reschedule") {
+      await rescheduleVisit(db, { visitId: visit.id, toDate: parsed.data.toDate, reason: parsed.data.reason, actorUserId: user.id });
+    } else {
+      await cancelVisit(db, { visitId: visit.id, reason: parsed.data.reason, actorUserId: user.id });
+    }
+  } catch (error) {
+    if (error instanceof VisitChangeRefused) {
+      return data({ ok: false as const, errors: { [error.field]: error.message } as FieldErrors, intent: parsed.data.intent }, { status: 409 });
+    }
+    throw error;
+  }
+  return { ok: true as const, errors: {} as FieldErrors, intent: parsed.data.intent };
+}
+
+export default function VisitPage({ loaderData, actionData }: Route.ComponentProps) {
+  const { visit } = loaderData;
+  const busy = useNavigation().state === "submitting";
+  const errors = actionData && !actionData.ok ? actionData.errors : {};
+  const open = visit.status === "scheduled" || visit.status === "deferred";
+  return (
+    <>
+      <Link to="/dispatch/calendar" className="mb-3 inline-flex min-h-11 items-center font-semibold text-pine-800 underline">
+        ← Calendar
+      </Link>
+      <PageHeader
+        title={`${visit.yardName}, ${formatServiceDate(visit.serviceDate)}`}
+        subtitle={`${visit.customerName} · round ${visit.roundNumber} of ${visit.roundsPlanned} · ${visit.colonies} colonies · ${visitStatusName(visit.status)}`}
+      />
+      {actionData?.ok ? (
+        <div className="mb-4">
+          <FormMessage tone="info" message={actionData.intent === "cancel" ? "Visit cancelled; the customer is being e-mailed." : "Visit moved; the customer is being e-mailed."} />
+        </div>
+      ) : null}
+      <div className="grid gap-6 lg:grid-cols-3">
+        <div className="flex min-w-0 flex-col gap-6 lg:col-span-2">
+          <Card title="Visit">
+            <dl className="grid gap-3 sm:grid-cols-2">
+              <div>
+                <dt className="text-sm font-semibold text-ink-soft">Customer</dt>
+                <dd>
+                  {visit.customerName}
+                  <br />
+                  <a className="text-pine-800 underline" href={`mailto:${visit.customerEmail}`}>
+                    {visit.customerEmail}
+                  </a>
+                  {visit.customerPhone ? <span className="block">{visit.customerPhone}</span> : null}
+                </dd>
+              </div>
+              <div>
+                <dt className="text-sm font-semibold text-ink-soft">Yard</dt>
+                <dd>
+                  <Link to={`/dispatch/yards/${visit.yardId}`} className="font-semibold text-pine-800 underline">
+                    {visit.yardName}
+                  </Link>
+                  {visit.address ? <span className="block">{visit.address}</span> : null}
+                </dd>
+              </div>
+              <div>
+                <dt className="text-sm font-semibold text-ink-soft">Time of day</dt>
+                <dd>{timePreferenceName(visit.timePreference)}</dd>
+              </div>
+              <div>
+                <dt className="text-sm font-semibold text-ink-soft">Crew</dt>
+                <dd>{visit.crewName ?? "Not on a run yet"}</dd>
+              </div>
+              <div className="sm:col-span-2">
+                <dt className="text-sm font-semibold text-ink-soft">Access notes</dt>
+                <dd className="whitespace-pre-line">{visit.accessNotes || "None"}</dd>
+              </div>
+              {visit.deferReason ? (
+                <div className="sm:col-span-2">
+                  <dt className="text-sm font-semibold text-ink-soft">Deferred because</dt>
+                  <dd>{visit.deferReason}</dd>
+                </div>
+              ) : null}
+            </dl>
+          </Card>
+          {open ? (
+            <>
+              <Card title="Move to another day">
+                <Form method="post" noValidate className="flex flex-col gap-3">
+                  <input type="hidden" name="intent" value="reschedule" />
+                  <div className="flex flex-col gap-1">
+                    <label htmlFor="toDate" className="font-semibold">
+                      New day
+                    </label>
+                    <input id="toDate" name="toDate" type="date" required aria-invalid={errors.toDate ? true : undefined} aria-describedby={errors.toDate ? "toDate-error" : undefined} className="min-h-11 max-w-xs rounded-lg border-2 border-line bg-card px-3" />
+                    {errors.toDate ? (
+                      <p id="toDate-error" className="font-semibold text-alarm-700">
+                        {errors.toDate}
+                      </p>
+                    ) : null}
+                  </div>
+                  <div className="flex flex-col gap-1">
+                    <label htmlFor="moveReason" className="font-semibold">
+                      Reason for the customer (optional)
+                    </label>
+                    <input id="moveReason" name="reason" className="min-h-11 rounded-lg border-2 border-line bg-card px-3" />
+                  </div>
+                  <div>
+                    <Button type="submit" disabled={busy}>
+                      Move the visit
+                    </Button>
+                  </div>
+                </Form>
+              </Card>
+              <Card title="Cancel the visit">
+                <Form method="post" noValidate className="flex flex-col gap-3">
+                  <input type="hidden" name="intent" value="cancel" />
+                  <div className="flex flex-col gap-1">
+                    <label htmlFor="cancelReason" className="font-semibold">
+                      Reason (sent to the customer)
+                    </label>
+                    <input id="cancelReason" name="reason" required aria-invalid={errors.reason ? true : undefined} aria-describedby={errors.reason ? "cancel-error" : undefined} className="min-h-11 rounded-lg border-2 border-line bg-card px-3" />
+                    {errors.reason ? (
+                      <p id="cancel-error" className="font-semibold text-alarm-700">
+                        {errors.reason}
+                      </p>
+                    ) : null}
+                  </div>
+                  <div>
+                    <Button type="submit" variant="danger" disabled={busy}>
+                      Cancel the visit
+                    </Button>
+                  </div>
+                </Form>
+              </Card>
+            </>
+          ) : null}
+          <FormMessage message={errors.form} />
+        </div>
+        <SafetyCautions audience="staff" />
+      </div>
+    </>
+  );
+}

@@ -1,0 +1,144 @@
+// The background worker: delivers queued e-mail and sends the daily visit reminders.
+// Usage: npm run worker   (DATABASE_URL picks the database; SMTP_* / MAIL_FROM as the app)
+// scripts/start.sh and scripts/test.sh run it beside the app. Stops cleanly on SIGINT/SIGTERM.
+//
+// - "send-email" jobs (sent after commit by requestEmailDelivery): deliverEmail per job;
+//   SMTP failures are recorded on the row and retried by the sweep with backoff, other
+//   errors are retried by pg-boss with backoff.
+// - "visit-reminders" (daily cron at 09:00 business time): queue reminders for the
+//   business's tomorrow, then request their delivery.
+// - every 15 s, a sweep delivers any queued or failed e-mail that is due.
+import type PgBoss from "pg-boss";
+import { deliverEmail, deliverQueuedEmails, EmailNotFoundError } from "~/models/emails.server";
+import { queueVisitReminders, reminderDateFor } from "~/models/reminders.server";
+import { loadBusinessSettings } from "~/models/settings.server";
+import { dateInZone } from "~/services/clock.server";
+import { db } from "~/services/db.server";
+import {
+  jobsBoss,
+  requestEmailDelivery,
+  scheduleVisitReminders,
+  SEND_EMAIL_QUEUE,
+  stopJobs,
+  VISIT_REMINDER_HOUR,
+  VISIT_REMINDERS_QUEUE,
+  type SendEmailJob,
+  type VisitRemindersJob,
+} from "~/services/jobs.server";
+
+const SWEEP_INTERVAL_MS = 15_000;
+
+function log(message: string) {
+  console.log(`${new Date().toISOString()} worker: ${message}`);
+}
+
+function errorText(error: unknown): string {
+  return error instanceof Error ? error.message : String(error);
+}
+
+async function sendEmailJob(jobs: PgBoss.Job<SendEmailJob>[]) {
+  let failure: unknown = null;
+  for (const job of jobs) {
+    const emailId = Number(job.data?.emailId);
+    try {
+      log(`email ${emailId}: ${await deliverEmail(db, emailId)} (job ${job.id})`);
+    } catch (error) {
+      if (error instanceof EmailNotFoundError) {
+        log(`email ${emailId}: not in email_log, job ${job.id} dropped`);
+        continue;
+      }
+      log(`email ${emailId}: error, pg-boss retries the batch with job ${job.id}: ${errorText(error)}`);
+      failure ??= error;
+    }
+  }
+  // pg-boss retries the whole batch with backoff; e-mails sent meanwhile come back "already-sent".
+  if (failure) throw failure;
+}
+
+async function visitRemindersJob(jobs: PgBoss.JobWithMetadata<VisitRemindersJob>[]) {
+  for (const job of jobs) {
+    // A cron job reminds about the day after it was created, even if it runs late.
+    const serviceDate = job.data?.serviceDate ?? (await reminderDateFor(db, job.createdOn ? new Date(job.createdOn) : new Date()));
+    const ids = await queueVisitReminders(db, serviceDate);
+    log(`visit reminders for ${serviceDate}: ${ids.length} queued (job ${job.id})`);
+    await requestEmailDelivery(ids);
+  }
+}
+
+let scheduledTimeZone = "";
+
+async function sweep() {
+  try {
+    const sent = await deliverQueuedEmails(db, 50, {
+      onResult: (emailId, result) => log(`sweep: email ${emailId}: ${result instanceof Error ? `error: ${result.message}` : result}`),
+    });
+    if (sent > 0) log(`sweep: ${sent} sent`);
+    // Follow a change of the business's time zone in settings.
+    const { timeZone } = await loadBusinessSettings(db);
+    if (timeZone !== scheduledTimeZone) {
+      scheduledTimeZone = await scheduleVisitReminders(db);
+      log(`visit reminders rescheduled daily at ${String(VISIT_REMINDER_HOUR).padStart(2, "0")}:00 ${scheduledTimeZone}`);
+    }
+  } catch (error) {
+    log(`sweep failed: ${errorText(error)}`);
+  }
+}
+
+async function main() {
+  const boss = await jobsBoss("worker");
+  log("pg-boss started");
+  scheduledTimeZone = await scheduleVisitReminders(db, boss);
+  log(`visit reminders scheduled daily at ${String(VISIT_REMINDER_HOUR).padStart(2, "0")}:00 ${scheduledTimeZone}`);
+
+  await boss.work<SendEmailJob>(SEND_EMAIL_QUEUE, { batchSize: 5, pollingIntervalSeconds: 1 }, sendEmailJob);
+  await boss.work<VisitRemindersJob>(VISIT_REMINDERS_QUEUE, { includeMetadata: true, pollingIntervalSeconds: 5 }, visitRemindersJob);
+  log(`working "${SEND_EMAIL_QUEUE}" and "${VISIT_REMINDERS_QUEUE}"`);
+
+  // Catch up when started after today's reminder time (a second run queues nothing new).
+  const now = new Date();
+  const localHour = Number(new Intl.DateTimeFormat("en-US", { hour: "numeric", hourCycle: "h23", timeZone: scheduledTimeZone }).format(now));
+  if (localHour >= VISIT_REMINDER_HOUR) {
+    const serviceDate = await reminderDateFor(db, now);
+    await boss.send(VISIT_REMINDERS_QUEUE, { serviceDate } satisfies VisitRemindersJob);
+    log(`catch-up: visit reminders for ${serviceDate} requested (it is past ${VISIT_REMINDER_HOUR}:00 on ${dateInZone(now, scheduledTimeZone)})`);
+  }
+
+  let sweeping: Promise<void> | null = null;
+  const runSweep = () => {
+    sweeping ??= sweep().finally(() => {
+      sweeping = null;
+    });
+  };
+  runSweep();
+  const timer = setInterval(runSweep, SWEEP_INTERVAL_MS);
+  log(`sweeping due e-mail every ${SWEEP_INTERVAL_MS / 1000} s`);
+
+  let stopping = false;
+  const stop = async (signal: string) => {
+    if (stopping) return;
+    stopping = true;
+    log(`${signal}: stopping`);
+    clearInterval(timer);
+    try {
+      await sweeping;
+      await stopJobs(4000);
+      await db.destroy();
+      log("stopped");
+      process.exitCode = 0;
+    } catch (error) {
+      log(`stopping failed: ${errorText(error)}`);
+      process.exitCode = 1;
+    }
+    // Leave at once if some handle still holds the event loop.
+    setTimeout(() => process.exit(), 500).unref();
+  };
+  process.on("SIGINT", () => void stop("SIGINT"));
+  process.on("SIGTERM", () => void stop("SIGTERM"));
+}
+
+main().catch(async (error: unknown) => {
+  log(`failed to start: ${error instanceof Error ? (error.stack ?? error.message) : String(error)}`);
+  await stopJobs(0).catch(() => {});
+  await db.destroy().catch(() => {});
+  process.exit(1);
+});

@@ -1,0 +1,68 @@
+import { afterAll, beforeEach, describe, expect, it } from "vitest";
+import { addCalendarDays } from "~/domain/courses";
+import { defaultBusinessSettings } from "~/domain/settings";
+import { bookYards } from "~/models/bookings.server";
+import { cancelVisit, rescheduleVisit, VisitChangeRefused } from "~/models/visit-changes.server";
+import { dateInZone } from "~/services/clock.server";
+import { db } from "~/services/db.server";
+import { resetDatabase } from "./reset-database";
+
+afterAll(() => db.destroy());
+
+const day = addCalendarDays(dateInZone(new Date(), defaultBusinessSettings.timeZone), 7);
+let actor: number;
+let visitId: number;
+
+beforeEach(async () => {
+  await resetDatabase(db);
+  await db("crews").insert({ name: "Crew A", start_label: "Shop", start_lat: 42.44, start_lng: -76.5, work_start: "08:00", work_end: "17:00", vaporizers: 2 });
+  const [dispatcher] = await db("users").insert({ email: "d@example.test", password_hash: "x", role: "dispatcher", name: "D" }).returning("id");
+  actor = dispatcher.id;
+  const [user] = await db("users").insert({ email: "c@example.test", password_hash: "x", role: "customer", name: "Casey" }).returning("id");
+  const [customer] = await db("customers").insert({ user_id: user.id, name: "Casey", email: "c@example.test" }).returning("id");
+  const [yard] = await db("yards").insert({ customer_id: customer.id, name: "Ridge", lat: 42.5, lng: -76.3, colony_count: 6, brood_status: "brood" }).returning("id");
+  const booked = await bookYards(db, { customerId: customer.id, userId: user.id, yardIds: [yard.id], serviceDate: day, timePreference: "any", notes: null });
+  visitId = booked.visitIds[0];
+});
+
+describe("moving and cancelling visits", () => {
+  it("moves a visit and its booking to a day with room, with an audit entry and an e-mail", async () => {
+    const to = addCalendarDays(day, 2);
+    await rescheduleVisit(db, { visitId, toDate: to, reason: "Rain", actorUserId: actor });
+    expect((await db("visits").where({ id: visitId }).first())?.service_date).toBe(to);
+    expect((await db("bookings").first())?.service_date).toBe(to);
+    expect(await db("audit_log").where({ action: "visit.reschedule" })).toHaveLength(1);
+    const mail = await db("email_log").where({ kind: "visit_rescheduled" }).first();
+    expect(mail?.to_address).toBe("c@example.test");
+  });
+
+  it("refuses a day without room, and changes nothing", async () => {
+    const full = addCalendarDays(day, 3);
+    await db("service_days").insert({ service_date: full, capacity_colonies: 4 });
+    const error = await rescheduleVisit(db, { visitId, toDate: full, reason: null, actorUserId: actor }).catch((e) => e);
+    expect(error).toBeInstanceOf(VisitChangeRefused);
+    expect(error.message).toMatch(/room for 4 more colonies; this visit has 6/);
+    expect((await db("visits").where({ id: visitId }).first())?.service_date).toBe(day);
+    expect(await db("email_log").where({ kind: "visit_rescheduled" })).toHaveLength(0);
+  });
+
+  it("takes a moved visit off its run", async () => {
+    const [crew] = await db("crews").select("id");
+    const [run] = await db("runs").insert({ crew_id: crew.id, service_date: day }).returning("id");
+    const at = new Date(`${day}T13:00:00Z`);
+    await db("stops").insert({ run_id: run.id, visit_id: visitId, position: 0, arrive_at: at, start_at: at, leave_at: at });
+    await rescheduleVisit(db, { visitId, toDate: addCalendarDays(day, 1), reason: null, actorUserId: actor });
+    expect(await db("stops").where({ visit_id: visitId })).toHaveLength(0);
+    expect((await db("runs").where({ id: run.id }).first())?.version).toBe(2);
+  });
+
+  it("cancels a first-round visit with its booking and course, and needs a reason", async () => {
+    await expect(cancelVisit(db, { visitId, reason: " ", actorUserId: actor })).rejects.toMatchObject({ field: "reason" });
+    await cancelVisit(db, { visitId, reason: "Customer moved the hives", actorUserId: actor });
+    expect((await db("visits").where({ id: visitId }).first())?.status).toBe("cancelled");
+    expect((await db("bookings").first())?.status).toBe("cancelled");
+    expect((await db("courses").first())?.status).toBe("cancelled");
+    expect(await db("email_log").where({ kind: "booking_cancelled" })).toHaveLength(1);
+    await expect(cancelVisit(db, { visitId, reason: "again", actorUserId: actor })).rejects.toThrow(/has not started/);
+  });
+});
