@@ -32,10 +32,11 @@ export default [
       route("customers", "routes/dispatch/customers.tsx"),
       route("yards", "routes/dispatch/yards.tsx"),
       route("visits/:visitId", "routes/dispatch/visit.tsx"),
+      route("days/:date", "routes/dispatch/day.tsx"),
     ]),
   ]),
 
-  ...prefix("crew", [layout("routes/crew/layout.tsx", [index("routes/crew/home.tsx")])]),
+  ...prefix("crew", [layout("routes/crew/layout.tsx", [index("routes/crew/home.tsx"), route("runs/:date", "routes/crew/run.tsx")])]),
 
   ...prefix("office", [
     layout("routes/office/layout.tsx", [

@@ -41,8 +41,10 @@ const RULES: Record<string, Rule> = {
   "routes/dispatch/customers.tsx": { outcome: staffOnly("dispatcher", "owner") },
   "routes/dispatch/yards.tsx": { outcome: staffOnly("dispatcher", "owner") },
   "routes/dispatch/visit.tsx": { outcome: staffOnly("dispatcher", "owner") },
+  "routes/dispatch/day.tsx": { outcome: staffOnly("dispatcher", "owner") },
   "routes/crew/layout.tsx": { outcome: staffOnly("crew") },
   "routes/crew/home.tsx": { outcome: staffOnly("crew") },
+  "routes/crew/run.tsx": { outcome: staffOnly("crew") },
   "routes/office/layout.tsx": { outcome: staffOnly("office", "owner") },
   "routes/office/home.tsx": { outcome: staffOnly("office", "owner") },
   "routes/office/customers.tsx": { outcome: staffOnly("office", "owner") },
@@ -155,6 +157,7 @@ function concrete(path: string): string {
     .replace(":visitId", String(ids.visit))
     .replace(":attachmentId", String(ids.attachment))
     .replace(":runId", String(ids.run))
+    .replace(":date", "2026-12-08")
     .replace("*", "no-such-page");
 }
 

@@ -29,6 +29,7 @@ const PAGES: Record<DemoRole, string[]> = {
 
 for (const role of Object.keys(PAGES) as DemoRole[]) {
   test(`${role} pages at 1280 and 390 px`, async ({ page }) => {
+    test.setTimeout(240_000);
     const [yard] = await queryTestDatabase<{ id: number }>(
       "select yards.id from yards join customers on customers.id = yards.customer_id join users on users.id = customers.user_id where users.email = $1 order by yards.id limit 1",
       [DEMO.customer],

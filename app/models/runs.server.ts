@@ -110,3 +110,19 @@ export async function runsBetween(db: Knex, from: string, to: string): Promise<R
       db.raw("coalesce(sum(visits.colonies_expected), 0)::int as colonies"),
     );
 }
+
+/** A crew's published runs from `fromDate` on (at most `limit`), for "coming runs" lists. */
+export async function comingRunsForCrew(db: Knex, crewId: number | string, fromDate: string, limit = 10) {
+  return db("runs")
+    .leftJoin("stops", "stops.run_id", "runs.id")
+    .leftJoin("visits", "visits.id", "stops.visit_id")
+    .where("runs.crew_id", crewId)
+    .where("runs.service_date", ">=", fromDate)
+    .whereIn("runs.status", ["published", "in_progress"])
+    .groupBy("runs.id")
+    .orderBy("runs.service_date")
+    .limit(limit)
+    .select("runs.id", "runs.service_date as serviceDate", db.raw("count(stops.id)::int as stops"), db.raw("coalesce(sum(visits.colonies_expected), 0)::int as colonies")) as Promise<
+    { id: number; serviceDate: string; stops: number; colonies: number }[]
+  >;
+}

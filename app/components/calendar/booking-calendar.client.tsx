@@ -13,6 +13,8 @@ type Props = {
   onSelect: (date: string) => void;
 };
 
+const MONTHS = ["January", "February", "March", "April", "May", "June", "July", "August", "September", "October", "November", "December"];
+
 function iso(date: Date) {
   return `${date.getFullYear()}-${String(date.getMonth() + 1).padStart(2, "0")}-${String(date.getDate()).padStart(2, "0")}`;
 }
@@ -60,8 +62,13 @@ export default function BookingCalendar({ firstBookable, lastBookable, selected,
         initialView="dayGridMonth"
         initialDate={selected ?? firstBookable}
         height="auto"
+        // Text buttons (FullCalendar's icon buttons have no text alternative), and day cells
+        // without FullCalendar's aria-labelledby, whose name leaves out the cell's content.
+        buttonIcons={false}
+        dayCellDidMount={(arg) => arg.el.removeAttribute("aria-labelledby")}
         fixedWeekCount={false}
         headerToolbar={{ left: "title", center: "", right: "prev,next" }}
+        buttonText={{ prev: "← Earlier", next: "Later →" }}
         validRange={{ start: firstBookable.slice(0, 8) + "01" }}
         datesSet={(info) => {
           const end = new Date(info.end);
@@ -80,20 +87,15 @@ export default function BookingCalendar({ firstBookable, lastBookable, selected,
           const date = iso(arg.date);
           const day = room[date];
           let note = "";
-          if (day && date >= firstBookable && date <= lastBookable) {
+          if (!arg.isOther && day && date >= firstBookable && date <= lastBookable) {
             note = day.closed || day.capacity === 0 ? "Closed" : day.remaining === 0 ? "Full" : `${day.remaining} fit`;
           }
+          if (arg.isOther) return <span className="vr-day-number vr-day-other">{arg.dayNumberText}</span>;
           return (
-            <button
-              type="button"
-              className="vr-day-button"
-              disabled={!bookable(date)}
-              aria-pressed={date === selected}
-              aria-label={`${arg.date.toDateString()}${note ? `, ${note === "Closed" || note === "Full" ? note.toLowerCase() : `room for ${day!.remaining} colonies`}` : ""}`}
-              onClick={() => bookable(date) && onSelect(date)}
-            >
+            <button type="button" className="vr-day-button" disabled={!bookable(date)} aria-pressed={date === selected} onClick={() => bookable(date) && onSelect(date)}>
               <span className="vr-day-number">{arg.dayNumberText}</span>
-              {note ? <span className="vr-day-room">{note}</span> : null}
+              <span className="sr-only"> {MONTHS[arg.date.getMonth()]}</span>
+              {note ? <span className="vr-day-room">{note === "Closed" || note === "Full" ? note : <>{note}<span className="sr-only"> colonies</span></>}</span> : null}
             </button>
           );
         }}

@@ -131,9 +131,13 @@ export default function VisitCalendar({ crews, initialDate }: { crews: { id: num
         initialView="dayGridMonth"
         initialDate={initialDate}
         height="auto"
+        // Text buttons (FullCalendar's icon buttons have no text alternative), and day cells
+        // without FullCalendar's aria-labelledby, whose name leaves out the cell's content.
+        buttonIcons={false}
+        dayCellDidMount={(arg) => arg.el.removeAttribute("aria-labelledby")}
         headerToolbar={{ left: "title", center: "", right: "today dayGridMonth,dayGridWeek prev,next" }}
-        buttonText={{ today: "Today", month: "Month", week: "Week" }}
-        dayMaxEvents={4}
+        buttonText={{ today: "Today", month: "Month", week: "Week", prev: "← Earlier", next: "Later →" }}
+        dayMaxEvents={false}
         events={source}
         eventDrop={onDrop}
         eventClick={(arg) => {

@@ -1,3 +1,4 @@
+import { Link } from "react-router";
 import { Card, PageHeader, Stat } from "~/components/ui/card";
 import { Table, Td, Th } from "~/components/ui/table";
 import { formatServiceDate } from "~/components/format";
@@ -30,7 +31,7 @@ export default function DispatchHome({ loaderData }: Route.ComponentProps) {
   const colonies = days.reduce((sum, d) => sum + d.colonies, 0);
   return (
     <>
-      <PageHeader title="Days ahead" subtitle={`Bookings for the next ${DAYS_AHEAD} days, from ${formatServiceDate(today)}.`} />
+      <PageHeader title="Days ahead" subtitle={`Bookings for the next ${DAYS_AHEAD} days, from ${formatServiceDate(today)}. Open a day to plan its runs.`} />
       <div className="mb-6 grid grid-cols-2 gap-3 lg:grid-cols-4">
         <Stat label="Visits booked" value={days.reduce((s, d) => s + d.visits, 0)} />
         <Stat label="Colonies to treat" value={colonies} />
@@ -55,7 +56,11 @@ export default function DispatchHome({ loaderData }: Route.ComponentProps) {
             >
               {days.map((day) => (
                 <tr key={day.serviceDate}>
-                  <Td>{formatServiceDate(day.serviceDate)}</Td>
+                  <Td>
+                    <Link to={`/dispatch/days/${day.serviceDate}`} className="font-semibold text-pine-800 underline">
+                      {formatServiceDate(day.serviceDate)}
+                    </Link>
+                  </Td>
                   <Td align="right">{day.visits}</Td>
                   <Td align="right">{day.colonies}</Td>
                   <Td align="right">{day.routed}</Td>
@@ -80,7 +85,11 @@ export default function DispatchHome({ loaderData }: Route.ComponentProps) {
             >
               {runs.map((run) => (
                 <tr key={`${run.crewId}-${run.serviceDate}`}>
-                  <Td>{formatServiceDate(run.serviceDate)}</Td>
+                  <Td>
+                    <Link to={`/dispatch/days/${run.serviceDate}`} className="font-semibold text-pine-800 underline">
+                      {formatServiceDate(run.serviceDate)}
+                    </Link>
+                  </Td>
                   <Td>{run.crewName}</Td>
                   <Td>{RUN_STATUS[run.status] ?? run.status}</Td>
                   <Td align="right">{run.stops}</Td>
