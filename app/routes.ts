@@ -19,6 +19,7 @@ export default [
       route("yards/:yardId/edit", "routes/portal/yard-edit.tsx"),
       route("book", "routes/portal/book.tsx"),
       route("bookings", "routes/portal/bookings.tsx"),
+      route("visits/:visitId", "routes/portal/visit-report.tsx"),
     ]),
   ]),
 
@@ -49,6 +50,7 @@ export default [
   ...prefix("api", [
     route("capacity", "routes/api/capacity.ts"),
     route("visits", "routes/api/visits.ts"),
+    route("crew/sync", "routes/api/crew-sync.ts"),
     route("runs/:runId/gpx", "routes/api/run-gpx.ts"),
     route("runs/:runId/ics", "routes/api/run-ics.ts"),
     route("base-map", "routes/api/base-map.ts"),

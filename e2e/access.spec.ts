@@ -8,7 +8,7 @@ import { DEMO, DEMO_PASSWORD, HOMES, expect, test, type DemoRole } from "./fixtu
 // without a rule below fails the first test, so nobody forgets to decide who may see it.
 
 type Visitor = DemoRole | "anonymous";
-type Outcome = "allowed" | "sign-in" | "refused" | "not-found" | { redirect: string | ((who: Visitor) => string) };
+type Outcome = "allowed" | "sign-in" | "refused" | "not-found" | "post-only" | { redirect: string | ((who: Visitor) => string) };
 type Rule = { method?: "GET"; outcome: (who: Visitor) => Outcome };
 
 const staffOnly =
@@ -32,6 +32,8 @@ const RULES: Record<string, Rule> = {
   "routes/portal/yard-edit.tsx": { outcome: staffOnly("customer") },
   "routes/portal/book.tsx": { outcome: staffOnly("customer") },
   "routes/portal/bookings.tsx": { outcome: staffOnly("customer") },
+  // The visit in the test is the demo customer's, but not finished: its report does not exist yet.
+  "routes/portal/visit-report.tsx": { outcome: (who) => (who === "customer" ? "not-found" : staffOnly("customer")(who)) },
   "routes/dispatch/layout.tsx": { outcome: staffOnly("dispatcher", "owner") },
   "routes/dispatch/home.tsx": { outcome: staffOnly("dispatcher", "owner") },
   "routes/dispatch/yard.tsx": { outcome: staffOnly("dispatcher", "owner") },
@@ -56,6 +58,8 @@ const RULES: Record<string, Rule> = {
   // A photo: its yard's customer, staff, and the crew (checked per photo, see attachments tests).
   "routes/api/attachment.ts": { outcome: staffOnly("customer", "crew", "dispatcher", "office", "owner") },
   "routes/api/visits.ts": { outcome: staffOnly("dispatcher", "owner") },
+  // The crew's sync takes POSTs only; a GET by the crew is answered 405.
+  "routes/api/crew-sync.ts": { outcome: (who) => (who === "crew" ? "post-only" : staffOnly("crew")(who)) },
   // A run's exports: dispatch, and the crew of that (published) run; to anyone else it does not exist.
   "routes/api/run-gpx.ts": { outcome: runExport },
   "routes/api/run-ics.ts": { outcome: runExport },
@@ -174,6 +178,7 @@ for (const visitor of ["anonymous", ...Object.keys(DEMO)] as Visitor[]) {
       if (outcome === "allowed") expect(response.status(), where).toBe(200);
       else if (outcome === "refused") expect(response.status(), where).toBe(403);
       else if (outcome === "not-found") expect(response.status(), where).toBe(404);
+      else if (outcome === "post-only") expect(response.status(), where).toBe(405);
       else if (outcome === "sign-in") {
         expect(response.status(), where).toBe(302);
         expect(response.headers()["location"], where).toBe(`/sign-in?redirectTo=${encodeURIComponent(url)}`);

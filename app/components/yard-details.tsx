@@ -1,4 +1,5 @@
 import type { ReactNode } from "react";
+import { Link } from "react-router";
 import { Card, PageHeader, Stat } from "./ui/card";
 import { Table, Td, Th } from "./ui/table";
 import { broodStatusName, formatServiceDate, visitStatusName } from "./format";
@@ -108,7 +109,15 @@ export function YardDetails({
             >
               {visits.map((visit) => (
                 <tr key={visit.id}>
-                  <Td>{formatServiceDate(visit.serviceDate)}</Td>
+                  <Td>
+                    {visit.status === "done" && !showCustomer ? (
+                      <Link to={`/portal/visits/${visit.id}`} className="font-semibold text-pine-800 underline">
+                        {formatServiceDate(visit.serviceDate)}
+                      </Link>
+                    ) : (
+                      formatServiceDate(visit.serviceDate)
+                    )}
+                  </Td>
                   <Td>
                     {visit.roundNumber} of {visit.roundsPlanned}
                   </Td>

@@ -297,6 +297,18 @@ export interface AuditLogRow {
   after: unknown;
 }
 
+/** A change from a crew's phone, applied once, by its idempotency key (tallies.server.ts). */
+export interface AppliedChangeRow {
+  key: string;
+  crew_id: Id;
+  kind: "safety" | "supers" | "tally" | "finish";
+  visit_id: Id | null;
+  user_id: Id | null;
+  applied_at: Date;
+  /** What the change returned when it was applied; a replay is answered with it. */
+  result: unknown;
+}
+
 declare module "knex/types/tables" {
   interface Tables {
     users: UserRow;
@@ -322,5 +334,6 @@ declare module "knex/types/tables" {
     webhook_events: WebhookEventRow;
     audit_log: AuditLogRow;
     service_days: ServiceDayRow;
+    applied_changes: AppliedChangeRow;
   }
 }

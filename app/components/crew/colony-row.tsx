@@ -1,0 +1,150 @@
+import { useState } from "react";
+import { assessMiteLoad, formatMitesPer100 } from "~/domain/mites";
+import { formatDose } from "~/domain/units";
+import { DoseTimer } from "./dose-timer";
+import { SKIP_REASON_NAMES, type FieldColony, type FieldSettings, type FieldTally, type SkipReason } from "./field-types";
+
+const BIG = "min-h-12 rounded-lg border-2 px-4 text-lg font-bold";
+
+/** One colony's tally: treated or skipped (with a reason), an optional wash count, notes. */
+export function ColonyRow({
+  colony,
+  tally,
+  settings,
+  serviceDate,
+  locked,
+  lockedReason,
+  onChange,
+}: {
+  colony: FieldColony;
+  tally: FieldTally | undefined;
+  settings: FieldSettings;
+  serviceDate: string;
+  locked: boolean;
+  lockedReason: string | null;
+  onChange: (tally: FieldTally) => void;
+}) {
+  const [showWash, setShowWash] = useState(tally?.mites != null);
+  const [mitesText, setMitesText] = useState(tally?.mites != null ? String(tally.mites) : "");
+  const [beesText, setBeesText] = useState(tally?.beesSampled != null ? String(tally.beesSampled) : "");
+  // A wash count is kept when both numbers are in (or both cleared).
+  const saveWash = () => {
+    const mites = mitesText.trim() === "" ? null : Math.max(0, Math.round(Number(mitesText)));
+    const bees = beesText.trim() === "" ? null : Math.max(1, Math.round(Number(beesText)));
+    if ((mites === null) !== (bees === null)) return;
+    if (mites === (tally?.mites ?? null) && bees === (tally?.beesSampled ?? null)) return;
+    save({ mites, beesSampled: bees });
+  };
+  const washHalf = (mitesText.trim() === "") !== (beesText.trim() === "");
+  const base: FieldTally = tally ?? { colonyLabel: colony.label, outcome: "treated", skipReason: null, skipNote: null, mites: null, beesSampled: null, notes: null };
+  const save = (patch: Partial<FieldTally>) => onChange({ ...base, ...patch });
+  const assessment =
+    tally?.mites != null && tally.beesSampled != null && tally.beesSampled > 0 ? assessMiteLoad(tally.mites, tally.beesSampled, serviceDate, settings.miteThresholds) : null;
+  return (
+    <li className={`rounded-xl border-2 p-3 ${tally ? (tally.outcome === "treated" ? "border-pine-700 bg-pine-50" : "border-ochre-500 bg-ochre-100") : "border-line bg-card"}`} data-colony={colony.label}>
+      <div className="flex flex-wrap items-center justify-between gap-2">
+        <p className="text-xl font-bold">
+          {colony.label}
+          <span className="ml-2 text-base font-semibold text-ink-soft">
+            {colony.broodBoxes} brood box{colony.broodBoxes === 1 ? "" : "es"} → {formatDose(colony.doseGrams, settings.unitSystem)}
+          </span>
+        </p>
+        {tally ? <span className="font-bold">{tally.outcome === "treated" ? "Treated ✓" : `Skipped: ${tally.skipReason ? SKIP_REASON_NAMES[tally.skipReason] : "reason?"}`}</span> : null}
+      </div>
+      <div className="mt-2 grid grid-cols-2 gap-2">
+        <button
+          type="button"
+          disabled={locked}
+          aria-pressed={tally?.outcome === "treated"}
+          onClick={() => save({ outcome: "treated", skipReason: null, skipNote: null })}
+          className={`${BIG} ${tally?.outcome === "treated" ? "border-pine-800 bg-pine-700 text-white" : "border-pine-700 bg-card text-pine-800"} disabled:opacity-50`}
+        >
+          Treated <span className="sr-only">{colony.label}</span>
+        </button>
+        <button
+          type="button"
+          disabled={locked && !tally}
+          aria-pressed={tally?.outcome === "skipped"}
+          onClick={() => save({ outcome: "skipped", skipReason: tally?.skipReason ?? null })}
+          className={`${BIG} ${tally?.outcome === "skipped" ? "border-ochre-700 bg-ochre-500 text-ink" : "border-ochre-700 bg-card text-ochre-700"}`}
+        >
+          Skipped <span className="sr-only">{colony.label}</span>
+        </button>
+      </div>
+      {locked && lockedReason ? <p className="mt-1 text-sm font-semibold text-alarm-700">{lockedReason}</p> : null}
+      {tally?.outcome === "skipped" ? (
+        <div className="mt-2 flex flex-col gap-1">
+          <label htmlFor={`reason-${colony.label}`} className="font-semibold">
+            Why skipped
+          </label>
+          <select
+            id={`reason-${colony.label}`}
+            value={tally.skipReason ?? ""}
+            onChange={(e) => save({ skipReason: (e.target.value || null) as SkipReason | null })}
+            aria-invalid={!tally.skipReason ? true : undefined}
+            className="min-h-12 rounded-lg border-2 border-line bg-card px-3 text-lg"
+          >
+            <option value="">Choose a reason</option>
+            {Object.entries(SKIP_REASON_NAMES).map(([value, name]) => (
+              <option key={value} value={value}>
+                {name}
+              </option>
+            ))}
+          </select>
+          {tally.skipReason === "other" ? (
+            <label className="mt-1 flex flex-col font-semibold">
+              What was wrong
+              <input defaultValue={tally.skipNote ?? ""} onBlur={(e) => save({ skipNote: e.target.value.trim() || null })} className="min-h-12 rounded-lg border-2 border-line bg-card px-3" />
+            </label>
+          ) : null}
+        </div>
+      ) : null}
+      <div className="mt-2 flex flex-wrap gap-2">
+        {tally?.outcome !== "skipped" ? <DoseTimer seconds={settings.sublimationSeconds} label={colony.label} /> : null}
+        <button type="button" disabled={!tally} onClick={() => setShowWash((v) => !v)} aria-expanded={showWash} className="min-h-12 rounded-lg border-2 border-line bg-card px-3 font-semibold disabled:opacity-50">
+          {showWash ? "Hide wash count" : "Add wash count"} <span className="sr-only">for {colony.label}</span>
+        </button>
+      </div>
+      {showWash && tally ? (
+        <div className="mt-2 grid grid-cols-2 gap-2">
+          <label className="flex flex-col font-semibold">
+            Mites counted
+            <input
+              type="number"
+              inputMode="numeric"
+              min={0}
+              value={mitesText}
+              onChange={(e) => setMitesText(e.target.value)}
+              onBlur={saveWash}
+              className="min-h-12 rounded-lg border-2 border-line bg-card px-3 text-lg"
+            />
+          </label>
+          <label className="flex flex-col font-semibold">
+            Bees sampled
+            <input
+              type="number"
+              inputMode="numeric"
+              min={1}
+              value={beesText}
+              onChange={(e) => setBeesText(e.target.value)}
+              onBlur={saveWash}
+              className="min-h-12 rounded-lg border-2 border-line bg-card px-3 text-lg"
+            />
+          </label>
+          {washHalf ? <p className="col-span-2 text-sm font-semibold text-ochre-700">Enter both the mites and the bees sampled.</p> : null}
+          {assessment ? (
+            <p className={`col-span-2 rounded-lg px-3 py-2 font-bold ${assessment.level === "below" ? "bg-pine-50 text-pine-900" : "bg-alarm-100 text-alarm-700"}`} role="status">
+              {formatMitesPer100(assessment.mitesPer100)} mites per 100 bees — {assessment.level === "below" ? "below" : assessment.level === "at" ? "at" : "above"} the threshold of {assessment.threshold}
+            </p>
+          ) : null}
+        </div>
+      ) : null}
+      {tally ? (
+      <label className="mt-2 flex flex-col font-semibold">
+        Notes <span className="sr-only">for {colony.label}</span>
+        <input defaultValue={tally?.notes ?? ""} onBlur={(e) => (e.target.value !== (tally?.notes ?? "") ? save({ notes: e.target.value || null }) : undefined)} className="min-h-12 rounded-lg border-2 border-line bg-card px-3" />
+      </label>
+      ) : null}
+    </li>
+  );
+}

@@ -1,0 +1,80 @@
+// The crew's day as the phone keeps it: a snapshot of the run from the server, plus the
+// changes made on the phone that are not yet confirmed by the server (the outbox).
+
+export type SkipReason = "dead_out" | "queenless" | "supers_on" | "aggressive" | "not_reachable" | "other";
+
+export const SKIP_REASON_NAMES: Record<SkipReason, string> = {
+  dead_out: "Dead-out",
+  queenless: "Queenless",
+  supers_on: "Supers on",
+  aggressive: "Aggressive",
+  not_reachable: "Not reachable",
+  other: "Other",
+};
+
+export type FieldColony = { label: string; broodBoxes: number; doseGrams: number };
+
+export type FieldTally = {
+  colonyLabel: string;
+  outcome: "treated" | "skipped";
+  skipReason: SkipReason | null;
+  skipNote: string | null;
+  mites: number | null;
+  beesSampled: number | null;
+  notes: string | null;
+};
+
+export type FieldStop = {
+  visitId: number;
+  position: number;
+  yardName: string;
+  customerName: string;
+  customerPhone: string | null;
+  address: string | null;
+  lat: number;
+  lng: number;
+  accessNotes: string;
+  photoIds: number[];
+  arrive: string;
+  roundNumber: number;
+  roundsPlanned: number;
+  colonies: FieldColony[];
+  supersConfirmed: boolean;
+  status: "scheduled" | "deferred" | "in_progress" | "done" | "cancelled";
+  tallies: Record<string, FieldTally>;
+};
+
+export type FieldSettings = {
+  unitSystem: "metric" | "us";
+  timeZone: string;
+  sublimationSeconds: number;
+  entranceClosedMinutes: number;
+  doseGramsPerBroodBox: number;
+  blockMinC: number;
+  blockMaxC: number;
+  miteThresholds: { fromMonth: number; toMonth: number; mitesPer100: number }[];
+};
+
+export type FieldRun = {
+  runId: number;
+  version: number;
+  crewName: string;
+  serviceDate: string;
+  safetyChecked: boolean;
+  driveMeters: number;
+  driveSeconds: number;
+  stops: FieldStop[];
+  settings: FieldSettings;
+  /** When the server made this snapshot (ISO). */
+  loadedAt: string;
+};
+
+export type SafetyItems = { respirator: boolean; eyeProtection: boolean; gloves: boolean; vaporizerReady: boolean };
+
+export type FieldChange =
+  | { key: string; kind: "safety"; runId: number; runVersion: number; createdAt: string; payload: { runId: number; items: SafetyItems } }
+  | { key: string; kind: "supers"; runId: number; runVersion: number; createdAt: string; payload: { visitId: number } }
+  | { key: string; kind: "tally"; runId: number; runVersion: number; createdAt: string; payload: FieldTally & { visitId: number; recordedAt: string } }
+  | { key: string; kind: "finish"; runId: number; runVersion: number; createdAt: string; payload: { visitId: number; weatherNote: string | null; notes: string | null } };
+
+export type SyncResult = { key: string; status: "applied" | "duplicate" | "conflict" | "refused"; message?: string };

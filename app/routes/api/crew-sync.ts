@@ -1,0 +1,28 @@
+import { data } from "react-router";
+import { syncBatchSchema } from "~/forms/sync";
+import { applySyncBatch } from "~/models/tallies.server";
+import { db } from "~/services/db.server";
+import { AREA_ROLES, requireRole } from "~/services/permissions.server";
+import type { Route } from "./+types/crew-sync";
+
+// The crew's phones send the changes kept while offline here, each with its own key, so a
+// change sent twice is applied once. The answer says, per change, what became of it.
+export async function action({ request }: Route.ActionArgs) {
+  const user = await requireRole(request, AREA_ROLES.crew);
+  if (request.method !== "POST") return data({ error: "Send the changes with POST." }, { status: 405 });
+  let body: unknown;
+  try {
+    body = await request.json();
+  } catch {
+    return data({ error: "Send the changes as JSON." }, { status: 400 });
+  }
+  const parsed = syncBatchSchema.safeParse(body);
+  if (!parsed.success) return data({ error: parsed.error.issues[0].message }, { status: 400 });
+  const results = await applySyncBatch(db, { crewId: user.crewId ?? 0, userId: user.id, changes: parsed.data.changes });
+  return Response.json({ results }, { headers: { "Cache-Control": "no-store" } });
+}
+
+export async function loader({ request }: Route.LoaderArgs) {
+  await requireRole(request, AREA_ROLES.crew);
+  return data({ error: "Send the changes with POST." }, { status: 405, headers: { Allow: "POST" } });
+}
