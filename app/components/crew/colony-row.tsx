@@ -25,6 +25,13 @@ export function ColonyRow({
   onChange: (tally: FieldTally) => void;
 }) {
   const [showWash, setShowWash] = useState(tally?.mites != null);
+  // "Skipped" asks for the reason first; the tally is kept once there is one (and, for
+  // "other", a note), so nothing half-done is ever sent.
+  const [skipping, setSkipping] = useState(false);
+  const [otherNote, setOtherNote] = useState(tally?.skipNote ?? "");
+  const [otherPicked, setOtherPicked] = useState(false);
+  const showSkip = skipping || tally?.outcome === "skipped";
+  const currentReason = tally?.outcome === "skipped" ? tally.skipReason : null;
   const [mitesText, setMitesText] = useState(tally?.mites != null ? String(tally.mites) : "");
   const [beesText, setBeesText] = useState(tally?.beesSampled != null ? String(tally.beesSampled) : "");
   // A wash count is kept when both numbers are in (or both cleared).
@@ -56,7 +63,10 @@ export function ColonyRow({
           type="button"
           disabled={locked}
           aria-pressed={tally?.outcome === "treated"}
-          onClick={() => save({ outcome: "treated", skipReason: null, skipNote: null })}
+          onClick={() => {
+            setSkipping(false);
+            save({ outcome: "treated", skipReason: null, skipNote: null });
+          }}
           className={`${BIG} ${tally?.outcome === "treated" ? "border-pine-800 bg-pine-700 text-white" : "border-pine-700 bg-card text-pine-800"} disabled:opacity-50`}
         >
           Treated <span className="sr-only">{colony.label}</span>
@@ -64,24 +74,29 @@ export function ColonyRow({
         <button
           type="button"
           disabled={locked && !tally}
-          aria-pressed={tally?.outcome === "skipped"}
-          onClick={() => save({ outcome: "skipped", skipReason: tally?.skipReason ?? null })}
-          className={`${BIG} ${tally?.outcome === "skipped" ? "border-ochre-700 bg-ochre-500 text-ink" : "border-ochre-700 bg-card text-ochre-700"}`}
+          aria-pressed={showSkip}
+          onClick={() => setSkipping(true)}
+          className={`${BIG} ${showSkip ? "border-ochre-700 bg-ochre-500 text-ink" : "border-ochre-700 bg-card text-ochre-700"}`}
         >
           Skipped <span className="sr-only">{colony.label}</span>
         </button>
       </div>
       {locked && lockedReason ? <p className="mt-1 text-sm font-semibold text-alarm-700">{lockedReason}</p> : null}
-      {tally?.outcome === "skipped" ? (
+      {showSkip ? (
         <div className="mt-2 flex flex-col gap-1">
           <label htmlFor={`reason-${colony.label}`} className="font-semibold">
             Why skipped
           </label>
           <select
             id={`reason-${colony.label}`}
-            value={tally.skipReason ?? ""}
-            onChange={(e) => save({ skipReason: (e.target.value || null) as SkipReason | null })}
-            aria-invalid={!tally.skipReason ? true : undefined}
+            value={currentReason ?? ""}
+            onChange={(e) => {
+              const reason = (e.target.value || null) as SkipReason | null;
+              if (reason && reason !== "other") save({ outcome: "skipped", skipReason: reason, skipNote: null });
+              else if (reason === "other" && otherNote.trim()) save({ outcome: "skipped", skipReason: "other", skipNote: otherNote.trim() });
+              else if (reason === "other") setOtherPicked(true);
+            }}
+            aria-invalid={!currentReason ? true : undefined}
             className="min-h-12 rounded-lg border-2 border-line bg-card px-3 text-lg"
           >
             <option value="">Choose a reason</option>
@@ -91,12 +106,18 @@ export function ColonyRow({
               </option>
             ))}
           </select>
-          {tally.skipReason === "other" ? (
+          {currentReason === "other" || otherPicked ? (
             <label className="mt-1 flex flex-col font-semibold">
               What was wrong
-              <input defaultValue={tally.skipNote ?? ""} onBlur={(e) => save({ skipNote: e.target.value.trim() || null })} className="min-h-12 rounded-lg border-2 border-line bg-card px-3" />
+              <input
+                value={otherNote}
+                onChange={(e) => setOtherNote(e.target.value)}
+                onBlur={() => otherNote.trim() && otherNote.trim() !== (tally?.skipNote ?? "") && save({ outcome: "skipped", skipReason: "other", skipNote: otherNote.trim() })}
+                className="min-h-12 rounded-lg border-2 border-line bg-card px-3"
+              />
             </label>
           ) : null}
+          {!currentReason ? <p className="text-sm font-semibold text-ochre-700">Choose a reason to record the colony as skipped.</p> : null}
         </div>
       ) : null}
       <div className="mt-2 flex flex-wrap gap-2">

@@ -1,4 +1,4 @@
-import { useCallback, useEffect, useMemo, useState } from "react";
+import { useCallback, useEffect, useMemo, useRef, useState } from "react";
 import { useRevalidator } from "react-router";
 import { formatDistance, formatDose, formatDuration, formatTemperature } from "~/domain/units";
 import { formatServiceDate } from "../format";
@@ -16,15 +16,25 @@ export function CrewField({ serverRun, title }: { serverRun: FieldRun; title: st
   const [outbox, setOutbox] = useState<Outbox | null>(null);
   const [snapshot, setSnapshot] = useState<FieldRun>(serverRun);
   const [pending, setPending] = useState<FieldChange[]>([]);
+  const [confirmed, setConfirmed] = useState<FieldChange[]>([]);
   const [problems, setProblems] = useState<{ change: FieldChange; result: SyncResult }[]>([]);
   const [online, setOnline] = useState(true);
   const [syncError, setSyncError] = useState<string | null>(null);
   const [openStop, setOpenStop] = useState<number | null>(null);
   const revalidator = useRevalidator();
+  const revalidate = useRef(revalidator.revalidate);
+  revalidate.current = revalidator.revalidate;
+  const snapshotTime = useRef(serverRun.loadedAt);
 
+  // Reads from the phone's store can finish out of order; only the latest one is shown.
+  const latestRefresh = useRef(0);
   const refresh = useCallback(async (box: Outbox) => {
-    setPending(await box.pendingChanges());
-    setProblems(await box.problemChanges());
+    const mine = ++latestRefresh.current;
+    const [nextPending, nextProblems, nextConfirmed] = await Promise.all([box.pendingChanges(), box.problemChanges(), box.confirmedSince(snapshotTime.current)]);
+    if (mine !== latestRefresh.current) return;
+    setPending(nextPending);
+    setProblems(nextProblems);
+    setConfirmed(nextConfirmed);
   }, []);
 
   const sync = useCallback(
@@ -34,12 +44,12 @@ export function CrewField({ serverRun, title }: { serverRun: FieldRun; title: st
         const { sent } = await box.syncOutbox();
         setSyncError(null);
         await refresh(box);
-        if (sent > 0) revalidator.revalidate();
+        if (sent > 0) void revalidate.current();
       } catch {
         setSyncError("Could not reach the office. Your work is kept on this phone and will be sent later.");
       }
     },
-    [refresh, revalidator],
+    [refresh],
   );
 
   // Load the phone's store, keep the newest snapshot, and send what is waiting.
@@ -48,7 +58,9 @@ export function CrewField({ serverRun, title }: { serverRun: FieldRun; title: st
     void import("./outbox.client").then(async (box) => {
       if (!live) return;
       setOutbox(box);
-      setSnapshot(await box.saveRunSnapshot(serverRun));
+      const kept = await box.saveRunSnapshot(serverRun);
+      snapshotTime.current = kept.loadedAt;
+      setSnapshot(kept);
       await refresh(box);
       void sync(box);
     });
@@ -87,7 +99,8 @@ export function CrewField({ serverRun, title }: { serverRun: FieldRun; title: st
       .catch(() => undefined);
   }, []);
 
-  const run = useMemo(() => applyChanges(snapshot, pending), [snapshot, pending]);
+  // The server's snapshot, then what the server took since it was made, then what waits.
+  const run = useMemo(() => applyChanges(snapshot, [...confirmed, ...pending]), [snapshot, confirmed, pending]);
 
   async function record(change: Omit<FieldChange, "key" | "runId" | "runVersion" | "createdAt">) {
     if (!outbox) return;

@@ -8,15 +8,20 @@ interface CrewDb extends DBSchema {
   runs: { key: string; value: FieldRun };
   outbox: { key: string; value: FieldChange; indexes: { byCreated: string } };
   problems: { key: string; value: { change: FieldChange; result: SyncResult } };
+  /** Changes the server took, with the server's time; shown until a newer snapshot has them. */
+  confirmed: { key: string; value: { change: FieldChange; serverTime: string } };
 }
 
 let database: Promise<IDBPDatabase<CrewDb>> | undefined;
 function crewDb() {
-  database ??= openDB<CrewDb>("varroute-crew", 1, {
-    upgrade(db) {
-      db.createObjectStore("runs");
-      db.createObjectStore("outbox", { keyPath: "key" }).createIndex("byCreated", "createdAt");
-      db.createObjectStore("problems");
+  database ??= openDB<CrewDb>("varroute-crew", 2, {
+    upgrade(db, oldVersion) {
+      if (oldVersion < 1) {
+        db.createObjectStore("runs");
+        db.createObjectStore("outbox", { keyPath: "key" }).createIndex("byCreated", "createdAt");
+        db.createObjectStore("problems");
+      }
+      if (oldVersion < 2) db.createObjectStore("confirmed");
     },
   });
   return database;
@@ -28,7 +33,20 @@ export async function saveRunSnapshot(run: FieldRun) {
   // Never replace a newer snapshot with an older one (a stale cached page after a reload).
   if (existing && existing.runId === run.runId && existing.loadedAt > run.loadedAt) return existing;
   await db.put("runs", run, run.serviceDate);
+  // Confirmed changes this snapshot already holds are no longer needed.
+  for (const entry of await db.getAll("confirmed")) {
+    if (entry.serverTime <= run.loadedAt) await db.delete("confirmed", entry.change.key);
+  }
   return run;
+}
+
+/** Changes the server took after `loadedAt` (so the snapshot may not show them yet), oldest first. */
+export async function confirmedSince(loadedAt: string): Promise<FieldChange[]> {
+  const entries = await (await crewDb()).getAll("confirmed");
+  return entries
+    .filter((e) => e.serverTime > loadedAt)
+    .sort((a, b) => a.change.createdAt.localeCompare(b.change.createdAt))
+    .map((e) => e.change);
 }
 
 export async function loadRunSnapshot(serviceDate: string): Promise<FieldRun | undefined> {
@@ -52,38 +70,56 @@ export async function dismissProblem(key: string) {
 }
 
 let syncing: Promise<{ sent: number; problems: number }> | null = null;
+let again = false;
 
-/** Sends every pending change, oldest first, in one request. Applied and duplicate changes
- *  leave the outbox; conflicts and refusals move to `problems`. Offline: nothing happens. */
-export function syncOutbox(): Promise<{ sent: number; problems: number }> {
-  syncing ??= (async () => {
+/** Sends every pending change, oldest first. Applied and duplicate changes leave the
+ *  outbox; conflicts and refusals move to `problems`. Offline: nothing happens. A change
+ *  made while a request is under way is sent right after it. */
+export async function syncOutbox(): Promise<{ sent: number; problems: number }> {
+  if (syncing) {
+    again = true;
+    return syncing;
+  }
+  let sent = 0;
+  let problems = 0;
+  do {
+    again = false;
+    syncing = sendOnce();
     try {
-      const changes = await pendingChanges();
-      if (changes.length === 0 || (typeof navigator !== "undefined" && !navigator.onLine)) return { sent: 0, problems: 0 };
-      const response = await fetch("/api/crew/sync", {
-        method: "POST",
-        headers: { "Content-Type": "application/json", Accept: "application/json" },
-        body: JSON.stringify({ changes }),
-      });
-      if (!response.ok) throw new Error(`sync answered ${response.status}`);
-      const { results } = (await response.json()) as { results: SyncResult[] };
-      const db = await crewDb();
-      const tx = db.transaction(["outbox", "problems"], "readwrite");
-      let problems = 0;
-      for (const result of results) {
-        const change = changes.find((c) => c.key === result.key);
-        if (!change) continue;
-        await tx.objectStore("outbox").delete(result.key);
-        if (result.status === "conflict" || result.status === "refused") {
-          problems++;
-          await tx.objectStore("problems").put({ change, result }, result.key);
-        }
-      }
-      await tx.done;
-      return { sent: results.length, problems };
+      const result = await syncing;
+      sent += result.sent;
+      problems += result.problems;
     } finally {
       syncing = null;
     }
-  })();
-  return syncing;
+  } while (again);
+  return { sent, problems };
+}
+
+async function sendOnce(): Promise<{ sent: number; problems: number }> {
+    const changes = await pendingChanges();
+    if (changes.length === 0 || (typeof navigator !== "undefined" && !navigator.onLine)) return { sent: 0, problems: 0 };
+    const response = await fetch("/api/crew/sync", {
+      method: "POST",
+      headers: { "Content-Type": "application/json", Accept: "application/json" },
+      body: JSON.stringify({ changes }),
+    });
+    if (!response.ok) throw new Error(`sync answered ${response.status}`);
+    const { results, serverTime } = (await response.json()) as { results: SyncResult[]; serverTime: string };
+    const db = await crewDb();
+    const tx = db.transaction(["outbox", "problems", "confirmed"], "readwrite");
+    let problems = 0;
+    for (const result of results) {
+      const change = changes.find((c) => c.key === result.key);
+      if (!change) continue;
+      await tx.objectStore("outbox").delete(result.key);
+      if (result.status === "conflict" || result.status === "refused") {
+        problems++;
+        await tx.objectStore("problems").put({ change, result }, result.key);
+      } else {
+        await tx.objectStore("confirmed").put({ change, serverTime }, result.key);
+      }
+    }
+    await tx.done;
+    return { sent: results.length, problems };
 }

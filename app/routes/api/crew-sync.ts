@@ -19,7 +19,8 @@ export async function action({ request }: Route.ActionArgs) {
   const parsed = syncBatchSchema.safeParse(body);
   if (!parsed.success) return data({ error: parsed.error.issues[0].message }, { status: 400 });
   const results = await applySyncBatch(db, { crewId: user.crewId ?? 0, userId: user.id, changes: parsed.data.changes });
-  return Response.json({ results }, { headers: { "Cache-Control": "no-store" } });
+  // The phone keeps showing these changes until it has a snapshot made after this time.
+  return Response.json({ results, serverTime: new Date().toISOString() }, { headers: { "Cache-Control": "no-store" } });
 }
 
 export async function loader({ request }: Route.LoaderArgs) {
