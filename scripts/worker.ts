@@ -7,14 +7,18 @@
 //   errors are retried by pg-boss with backoff.
 // - "visit-reminders" (daily cron at 09:00 business time): queue reminders for the
 //   business's tomorrow, then request their delivery.
+// - "invoice-issued" jobs (sent after a visit's invoice is created, requestInvoiceEmail):
+//   render the PDF, queue the invoice e-mail once (dedupe key invoice:<id>), deliver it.
 // - every 15 s, a sweep delivers any queued or failed e-mail that is due.
 import type PgBoss from "pg-boss";
 import { deliverEmail, deliverQueuedEmails, EmailNotFoundError } from "~/models/emails.server";
+import { handleInvoiceIssued } from "~/models/invoice-mail.server";
 import { queueVisitReminders, reminderDateFor } from "~/models/reminders.server";
 import { loadBusinessSettings } from "~/models/settings.server";
 import { dateInZone } from "~/services/clock.server";
 import { db } from "~/services/db.server";
 import {
+  INVOICE_ISSUED_QUEUE,
   jobsBoss,
   requestEmailDelivery,
   scheduleVisitReminders,
@@ -22,6 +26,7 @@ import {
   stopJobs,
   VISIT_REMINDER_HOUR,
   VISIT_REMINDERS_QUEUE,
+  type InvoiceIssuedJob,
   type SendEmailJob,
   type VisitRemindersJob,
 } from "~/services/jobs.server";
@@ -65,6 +70,16 @@ async function visitRemindersJob(jobs: PgBoss.JobWithMetadata<VisitRemindersJob>
   }
 }
 
+async function invoiceIssuedJob(jobs: PgBoss.Job<InvoiceIssuedJob>[]) {
+  for (const job of jobs) {
+    const invoiceId = Number(job.data?.invoiceId);
+    // Errors are thrown for pg-boss to retry; a retry never queues or sends the e-mail twice.
+    const { queued, delivery } = await handleInvoiceIssued(db, invoiceId);
+    const detail = queued.status === "skipped" ? `skipped (${queued.reason})` : `${queued.status} as email ${queued.emailId}`;
+    log(`invoice ${invoiceId}: e-mail ${detail}${delivery ? `, ${delivery}` : ""} (job ${job.id})`);
+  }
+}
+
 let scheduledTimeZone = "";
 
 async function sweep() {
@@ -92,7 +107,8 @@ async function main() {
 
   await boss.work<SendEmailJob>(SEND_EMAIL_QUEUE, { batchSize: 5, pollingIntervalSeconds: 1 }, sendEmailJob);
   await boss.work<VisitRemindersJob>(VISIT_REMINDERS_QUEUE, { includeMetadata: true, pollingIntervalSeconds: 5 }, visitRemindersJob);
-  log(`working "${SEND_EMAIL_QUEUE}" and "${VISIT_REMINDERS_QUEUE}"`);
+  await boss.work<InvoiceIssuedJob>(INVOICE_ISSUED_QUEUE, { pollingIntervalSeconds: 2 }, invoiceIssuedJob);
+  log(`working "${SEND_EMAIL_QUEUE}", "${VISIT_REMINDERS_QUEUE}" and "${INVOICE_ISSUED_QUEUE}"`);
 
   // Catch up when started after today's reminder time (a second run queues nothing new).
   const now = new Date();

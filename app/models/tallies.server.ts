@@ -23,6 +23,7 @@ import { serverEnv } from "~/services/env.server";
 import { requestEmailDelivery } from "~/services/jobs.server";
 import { lockDayRoom } from "./capacity.server";
 import { queueEmail } from "./emails.server";
+import { requestInvoiceEmail } from "./invoice-mail.server";
 import { createInvoiceForVisit } from "./invoices-create.server";
 import { loadBusinessSettings } from "./settings.server";
 import type { SkipReason, TallyRow } from "./tables";
@@ -1046,6 +1047,8 @@ async function finishVisitTx(trx: Knex.Transaction, input: FinishInput, now: Dat
 export async function finishVisit(db: Knex, input: FinishInput, now = new Date()): Promise<FinishResult> {
   const { result, emailIds } = await inTransaction(db, (trx) => finishVisitTx(trx, input, now));
   if (!db.isTransaction) await requestEmailDelivery(emailIds);
+  // The invoice e-mail (PDF, pay link) is made by the worker, after commit.
+  if (!db.isTransaction && !result.alreadyFinished && result.invoiceId) await requestInvoiceEmail(result.invoiceId);
   return result;
 }
 
@@ -1332,5 +1335,9 @@ export async function applySyncBatch(
     }
   }
   if (!db.isTransaction) await requestEmailDelivery(emailIds);
+  for (const o of outcomes) {
+    const finished = o.kind === "finish" && o.status === "applied" ? (o.result as FinishResult) : null;
+    if (!db.isTransaction && finished && !finished.alreadyFinished && finished.invoiceId) await requestInvoiceEmail(finished.invoiceId);
+  }
   return outcomes;
 }

@@ -9,6 +9,8 @@ import { serverEnv } from "./env.server";
 
 export const SEND_EMAIL_QUEUE = "send-email";
 export const VISIT_REMINDERS_QUEUE = "visit-reminders";
+/** After a visit's invoice is created: render its PDF and e-mail it (app/models/invoice-mail.server.ts). */
+export const INVOICE_ISSUED_QUEUE = "invoice-issued";
 /** Visit reminders go out at 09:00 in the business's time zone, the day before the visit. */
 export const VISIT_REMINDER_HOUR = 9;
 export const VISIT_REMINDER_CRON = `0 ${VISIT_REMINDER_HOUR} * * *`;
@@ -16,6 +18,7 @@ export const VISIT_REMINDER_CRON = `0 ${VISIT_REMINDER_HOUR} * * *`;
 export type SendEmailJob = { emailId: number };
 /** serviceDate is optional: the cron job carries none, and the worker reminds for the day after the job was created. */
 export type VisitRemindersJob = { serviceDate?: string };
+export type InvoiceIssuedJob = { invoiceId: number };
 
 type Role = "sender" | "worker";
 type BossState = { role: Role; boss: PgBoss; ready: Promise<PgBoss> };
@@ -49,6 +52,14 @@ function createBoss(role: Role): BossState {
       retryDelay: 120,
       retryBackoff: true,
       expireInSeconds: 15 * 60,
+    });
+    await boss.createQueue(INVOICE_ISSUED_QUEUE, {
+      name: INVOICE_ISSUED_QUEUE,
+      // Queueing the e-mail is idempotent (dedupe key per invoice), so a retry never sends twice.
+      retryLimit: 6,
+      retryDelay: 30,
+      retryBackoff: true,
+      expireInSeconds: 5 * 60,
     });
     return boss;
   })();
