@@ -8,6 +8,7 @@ export default [
     index("routes/public/landing.tsx"),
     route("sign-in", "routes/public/sign-in.tsx"),
     route("sign-up", "routes/public/sign-up.tsx"),
+    route("pay/:token", "routes/public/pay.tsx"),
   ]),
   route("sign-out", "routes/public/sign-out.tsx"),
 
@@ -51,6 +52,7 @@ export default [
     route("capacity", "routes/api/capacity.ts"),
     route("visits", "routes/api/visits.ts"),
     route("crew/sync", "routes/api/crew-sync.ts"),
+    route("stripe/webhook", "routes/api/stripe-webhook.ts"),
     route("runs/:runId/gpx", "routes/api/run-gpx.ts"),
     route("runs/:runId/ics", "routes/api/run-ics.ts"),
     route("base-map", "routes/api/base-map.ts"),

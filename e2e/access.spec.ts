@@ -25,6 +25,10 @@ const RULES: Record<string, Rule> = {
   "routes/public/sign-in.tsx": { outcome: publicForm },
   "routes/public/sign-up.tsx": { outcome: publicForm },
   "routes/public/sign-out.tsx": { outcome: () => ({ redirect: "/" }) },
+  // The pay link's token is its key; the test's token is not a valid one.
+  "routes/public/pay.tsx": { outcome: () => "not-found" },
+  // Stripe posts here; a GET is answered 405 for everyone.
+  "routes/api/stripe-webhook.ts": { outcome: () => "post-only" },
   "routes/portal/layout.tsx": { outcome: staffOnly("customer") },
   "routes/portal/home.tsx": { outcome: staffOnly("customer") },
   "routes/portal/yard.tsx": { outcome: staffOnly("customer") },
@@ -162,6 +166,7 @@ function concrete(path: string): string {
     .replace(":attachmentId", String(ids.attachment))
     .replace(":runId", String(ids.run))
     .replace(":date", "2026-12-08")
+    .replace(":token", "not-a-token")
     .replace("*", "no-such-page");
 }
 

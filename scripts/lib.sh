@@ -164,9 +164,28 @@ start_maildev() {
   say "mail sink web UI on http://127.0.0.1:$MAILDEV_WEB_PORT"
 }
 
+# The local fake Stripe server (scripts/stripe-fake.ts): the API the app calls, a hosted test
+# checkout page, and signed webhooks to STRIPE_WEBHOOK_URL. Not started when STRIPE_SECRET_KEY
+# is set (the app then talks to Stripe, or to STRIPE_API_HOST). Reused when already answering.
+STRIPE_FAKE_PORT=12111
+start_stripe_fake() {
+  if [ -n "${STRIPE_SECRET_KEY:-}" ]; then
+    say "STRIPE_SECRET_KEY is set: card payments go to ${STRIPE_API_HOST:-Stripe}, no fake Stripe server"
+    return 0
+  fi
+  export STRIPE_WEBHOOK_URL=${STRIPE_WEBHOOK_URL:-http://127.0.0.1:${PORT:-3000}/api/stripe/webhook}
+  if port_answers "$STRIPE_FAKE_PORT"; then
+    say "fake Stripe already running on 127.0.0.1:$STRIPE_FAKE_PORT (its webhook URL is whatever it was started with)"
+    return 0
+  fi
+  STRIPE_FAKE_PORT=$STRIPE_FAKE_PORT start_service stripe-fake "$STRIPE_FAKE_PORT" node --import tsx scripts/stripe-fake.ts
+  say "fake Stripe checkout pages on http://127.0.0.1:$STRIPE_FAKE_PORT, webhooks to $STRIPE_WEBHOOK_URL"
+}
+
 start_local_services() {
   start_postgres
   start_maildev
+  start_stripe_fake
 }
 
 # The background worker (e-mail delivery, visit reminders); needs a migrated database.

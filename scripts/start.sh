@@ -26,10 +26,13 @@ npx react-router build >"$RUN_DIR/build.log" 2>&1 || { tail -40 "$RUN_DIR/build.
 export PORT=${PORT:-3000}
 export HOST=${HOST:-127.0.0.1}
 export APP_URL=${APP_URL:-http://$HOST:$PORT}
+if [ -n "${STRIPE_SECRET_KEY:-}" ]; then STRIPE_NOTE="Stripe (STRIPE_SECRET_KEY is set)"
+else STRIPE_NOTE="the fake Stripe checkout on http://127.0.0.1:12111 (any card number pays)"; fi
 cat <<MSG
 
   Varroute is running at $APP_URL
   E-mails sent by the app: http://127.0.0.1:11080${SMTP_URL:+ (SMTP_URL is set: e-mail goes to that relay instead)}
+  Card payments: $STRIPE_NOTE
 
   Demo sign-ins (password for all: demo-bees-2026)
     owner        owner@demo.varroute.test

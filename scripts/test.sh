@@ -12,6 +12,10 @@ trap 'exit 130' INT TERM
 # Tests never send real e-mail: everything goes to the local SMTP sink.
 unset SMTP_URL
 export SMTP_HOST=127.0.0.1 SMTP_PORT=11025 MAILDEV_API_URL=http://127.0.0.1:11080
+# Tests never reach real Stripe: the fake Stripe server stands in, and its webhooks go to the
+# app that Playwright starts on port 3100.
+unset STRIPE_SECRET_KEY STRIPE_WEBHOOK_SECRET STRIPE_API_HOST STRIPE_API_PORT STRIPE_API_PROTOCOL
+export STRIPE_WEBHOOK_URL=http://127.0.0.1:3100/api/stripe/webhook
 start_local_services
 
 export DB_NAME=varroute_test

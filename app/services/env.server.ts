@@ -23,6 +23,15 @@ const envSchema = z.object({
   // Optional OSRM-compatible routing engine (its /table service), e.g. http://127.0.0.1:5000.
   // Unset, drive times are estimated from straight-line distance (settings: circuity, speed).
   OSRM_URL: z.preprocess(emptyAsUnset, z.string().regex(/^https?:\/\//i, "OSRM_URL must start with http:// or https://").optional()),
+  // Card payments (app/services/stripe.server.ts). Unset STRIPE_SECRET_KEY means the local
+  // fake Stripe server that npm start and npm test run (127.0.0.1:12111, test keys below).
+  // A real key with STRIPE_API_HOST unset talks to Stripe itself, and then
+  // STRIPE_WEBHOOK_SECRET (whsec_… from the dashboard) is required.
+  STRIPE_SECRET_KEY: z.preprocess(emptyAsUnset, z.string().regex(/^(sk|rk)_(test|live)_/, "STRIPE_SECRET_KEY must start with sk_test_, sk_live_, rk_test_ or rk_live_").optional()),
+  STRIPE_WEBHOOK_SECRET: z.preprocess(emptyAsUnset, z.string().optional()),
+  STRIPE_API_HOST: z.preprocess(emptyAsUnset, z.string().optional()),
+  STRIPE_API_PORT: z.preprocess(emptyAsUnset, z.coerce.number().int().min(1).max(65535).optional()),
+  STRIPE_API_PROTOCOL: z.preprocess(emptyAsUnset, z.enum(["http", "https"]).optional()),
 });
 
 function emptyAsUnset(value: unknown) {

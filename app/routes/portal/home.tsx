@@ -9,6 +9,7 @@ import { upcomingVisitsForCustomer } from "~/models/visits.server";
 import { listYardsForCustomer } from "~/models/yards.server";
 import { businessToday } from "~/services/clock.server";
 import { db } from "~/services/db.server";
+import { payLinkToken } from "~/services/pay-link.server";
 import { requireCustomer } from "~/services/permissions.server";
 import type { Route } from "./+types/home";
 
@@ -23,7 +24,9 @@ export async function loader({ request }: Route.LoaderArgs) {
     invoicesForCustomer(db, user.customerId, 5),
     invoiceTotals(db, today, user.customerId),
   ]);
-  return { name: user.name, yards, visits, invoices, totals };
+  // Open invoices get a pay link (relative, so it works behind any host name).
+  const withPay = invoices.map((i) => ({ ...i, payPath: i.status === "open" ? `/pay/${payLinkToken(i.id)}` : null }));
+  return { name: user.name, yards, visits, invoices: withPay, totals };
 }
 
 export default function PortalHome({ loaderData }: Route.ComponentProps) {
@@ -131,7 +134,15 @@ export default function PortalHome({ loaderData }: Route.ComponentProps) {
                   <Td>{formatServiceDate(invoice.issuedOn)}</Td>
                   <Td>{formatServiceDate(invoice.dueOn)}</Td>
                   <Td align="right">{formatCents(invoice.totalCents)}</Td>
-                  <Td className="capitalize">{invoice.status}</Td>
+                  <Td className="capitalize">
+                    {invoice.payPath ? (
+                      <Link to={invoice.payPath} className="font-semibold text-pine-800 underline">
+                        {invoice.status}: pay <span className="sr-only">invoice {invoice.number}</span>
+                      </Link>
+                    ) : (
+                      invoice.status
+                    )}
+                  </Td>
                 </tr>
               ))}
             </Table>
