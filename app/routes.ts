@@ -45,6 +45,9 @@ export default [
       index("routes/office/home.tsx"),
       route("customers", "routes/office/customers.tsx"),
       route("customers/import", "routes/office/customers-import.tsx"),
+      route("invoices", "routes/office/invoices.tsx"),
+      route("invoices/:invoiceId", "routes/office/invoice.tsx"),
+      route("invoices/:invoiceId/pdf", "routes/office/invoice-pdf.ts"),
     ]),
   ]),
 

@@ -55,6 +55,9 @@ const RULES: Record<string, Rule> = {
   "routes/office/home.tsx": { outcome: staffOnly("office", "owner") },
   "routes/office/customers.tsx": { outcome: staffOnly("office", "owner") },
   "routes/office/customers-import.tsx": { outcome: staffOnly("office", "owner") },
+  "routes/office/invoices.tsx": { outcome: staffOnly("office", "owner") },
+  "routes/office/invoice.tsx": { outcome: staffOnly("office", "owner") },
+  "routes/office/invoice-pdf.ts": { outcome: staffOnly("office", "owner") },
   // Remaining colonies per day: customers book from it, staff plan with it.
   "routes/api/capacity.ts": { outcome: staffOnly("customer", "dispatcher", "office", "owner") },
   // Outlines under every map: any signed-in user.
@@ -92,7 +95,7 @@ function allRoutes(entries: RouteConfigEntry[], base = "/"): Page[] {
 
 const ROUTES = allRoutes(routes);
 
-let ids: { ownYard: number; otherYard: number; otherYardName: string; visit: number; attachment: number; otherAttachment: number; run: number };
+let ids: { ownYard: number; otherYard: number; otherYardName: string; visit: number; attachment: number; otherAttachment: number; run: number; invoice: number };
 
 // A 1×1 PNG, stored as a photo of the demo customer's yard that is on the demo crew's run.
 const PNG = Buffer.from("89504e470d0a1a0a0000000d4948445200000001000000010806000000" + "1f15c4890000000d49444154789c6360000002000100ffff03000006000557bfabd40000000049454e44ae426082", "hex");
@@ -129,6 +132,7 @@ test.beforeAll(async ({ playwright, baseURL }) => {
     "insert into attachments (yard_id, original_name, content_type, byte_size, content) values ($1, 'other.png', 'image/png', $2, $3) returning id",
     [other.rows[0].id, PNG.length, PNG],
   );
+  const invoice = await client.query("select id from invoices order by id limit 1");
   await client.end();
   ids = {
     ownYard: Number(own.rows[0].id),
@@ -138,6 +142,7 @@ test.beforeAll(async ({ playwright, baseURL }) => {
     attachment: Number(photo.rows[0].id),
     otherAttachment: Number(otherPhoto.rows[0].id),
     run: Number(onRun.rows[0].run_id),
+    invoice: Number(invoice.rows[0].id),
   };
 
   sessions.set("anonymous", await playwright.request.newContext({ baseURL, maxRedirects: 0 }));
@@ -165,6 +170,7 @@ function concrete(path: string): string {
     .replace(":visitId", String(ids.visit))
     .replace(":attachmentId", String(ids.attachment))
     .replace(":runId", String(ids.run))
+    .replace(":invoiceId", String(ids.invoice))
     .replace(":date", "2026-12-08")
     .replace(":token", "not-a-token")
     .replace("*", "no-such-page");

@@ -22,7 +22,7 @@ test("public pages", async ({ page }) => {
 const PAGES: Record<DemoRole, string[]> = {
   owner: ["/dispatch", "/dispatch/settings", "/office"],
   dispatcher: ["/dispatch", "/dispatch/settings", "/dispatch/calendar", "/dispatch/map", "/dispatch/customers", "/dispatch/yards"],
-  office: ["/office", "/office/customers", "/office/customers/import"],
+  office: ["/office", "/office/customers", "/office/customers/import", "/office/invoices"],
   crew: ["/crew"],
   customer: ["/portal", "/portal/book", "/portal/bookings", "/portal/yards/new"],
 };
@@ -35,12 +35,15 @@ for (const role of Object.keys(PAGES) as DemoRole[]) {
       [DEMO.customer],
     );
     const [visit] = await queryTestDatabase<{ id: number }>("select id from visits where status = 'scheduled' order by service_date, id limit 1");
+    const [invoice] = await queryTestDatabase<{ id: number }>("select id from invoices where status = 'paid' order by id limit 1");
     const extra =
       role === "customer"
         ? [`/portal/yards/${yard.id}`, `/portal/yards/${yard.id}/edit`]
         : role === "dispatcher"
           ? [`/dispatch/yards/${yard.id}`, `/dispatch/visits/${visit.id}`]
-          : [];
+          : role === "office"
+            ? [`/office/invoices/${invoice.id}`]
+            : [];
     await signIn(page, DEMO[role]);
     for (const width of [1280, 390]) {
       await page.setViewportSize({ width, height: 900 });

@@ -12,6 +12,7 @@ export default function OfficeLayout({ loaderData }: Route.ComponentProps) {
   const nav = [
     { to: "/office", label: "Money at a glance", end: true },
     { to: "/office/customers", label: "Customers" },
+    { to: "/office/invoices", label: "Invoices" },
     ...(loaderData.user.role === "owner" ? [{ to: "/dispatch", label: "Dispatch" }] : []),
   ];
   return (
