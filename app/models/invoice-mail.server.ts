@@ -4,8 +4,8 @@ import { renderInvoicePdf } from "~/services/invoice-pdf.server";
 import { INVOICE_ISSUED_QUEUE, jobsBoss, type InvoiceIssuedJob } from "~/services/jobs.server";
 import type { MailTransport } from "~/services/mail.server";
 import { defaultPayLinkExpiry, payLinkUrl } from "~/services/pay-link.server";
-import { deliverEmail, queueEmail, type DeliveryResult } from "./emails.server";
-import { invoiceDocument } from "./invoice-documents.server";
+import { deliverEmail, queueEmail, type DeliveryResult, type OutgoingEmail } from "./emails.server";
+import { invoiceDocument, type InvoiceDocument } from "./invoice-documents.server";
 import type { EmailLogRow } from "./tables";
 
 // E-mailing an invoice with its PDF.
@@ -42,6 +42,33 @@ function payLinkExpiry(dueOn: string, now: Date): Date {
   return afterDue > standard ? afterDue : standard;
 }
 
+/** The invoice e-mail for a document: PDF attached, and a pay link while money is owed. */
+export async function invoiceEmailFor(doc: InvoiceDocument, dedupeKey: string, now: Date): Promise<OutgoingEmail> {
+  const payUrl = doc.status === "open" && doc.balanceCents > 0 ? payLinkUrl(doc.invoiceId, payLinkExpiry(doc.dueOn, now)) : null;
+  const pdf = await renderInvoicePdf(doc, { payUrl });
+  const content = invoiceEmail({
+    customerName: doc.customer.name,
+    number: doc.number,
+    issuedOn: doc.issuedOn,
+    dueOn: doc.dueOn,
+    totalCents: doc.totalCents,
+    yardName: doc.visit?.yardName ?? null,
+    serviceDate: doc.visit?.serviceDate ?? null,
+    coloniesTreated: doc.coloniesTreated,
+    payUrl,
+  });
+  return {
+    kind: "invoice",
+    to: doc.customer.email,
+    ...content,
+    customerId: doc.customer.id,
+    invoiceId: doc.invoiceId,
+    visitId: doc.visit?.id ?? null,
+    dedupeKey,
+    attachments: [{ filename: `invoice-${doc.number}.pdf`, contentType: "application/pdf", contentBase64: pdf.toString("base64") }],
+  };
+}
+
 /**
  * Queues the invoice e-mail with its PDF attached, in one transaction (a savepoint inside
  * the caller's): nothing for a void invoice or a customer without an address; the existing
@@ -58,29 +85,8 @@ export async function queueInvoiceEmail(db: Knex, invoiceId: number, now = new D
 
     const doc = (await invoiceDocument(trx, invoiceId))!;
     if (doc.customer.anonymised || !doc.customer.email.includes("@")) return { status: "skipped", emailId: null, reason: "no-recipient" };
-    const payUrl = doc.status === "open" && doc.balanceCents > 0 ? payLinkUrl(invoiceId, payLinkExpiry(doc.dueOn, now)) : null;
-    const pdf = await renderInvoicePdf(doc, { payUrl });
-    const content = invoiceEmail({
-      customerName: doc.customer.name,
-      number: doc.number,
-      issuedOn: doc.issuedOn,
-      dueOn: doc.dueOn,
-      totalCents: doc.totalCents,
-      yardName: doc.visit?.yardName ?? null,
-      serviceDate: doc.visit?.serviceDate ?? null,
-      coloniesTreated: doc.coloniesTreated,
-      payUrl,
-    });
-    const emailId = await queueEmail(trx, {
-      kind: "invoice",
-      to: doc.customer.email,
-      ...content,
-      customerId: doc.customer.id,
-      invoiceId,
-      visitId: doc.visit?.id ?? null,
-      dedupeKey,
-      attachments: [{ filename: `invoice-${doc.number}.pdf`, contentType: "application/pdf", contentBase64: pdf.toString("base64") }],
-    });
+    const email = await invoiceEmailFor(doc, dedupeKey, now);
+    const emailId = await queueEmail(trx, email);
     if (emailId === null) {
       // Queued by someone else meanwhile (the invoice lock makes this unlikely).
       const row = await trx("email_log").where({ dedupe_key: dedupeKey }).first("id");
@@ -94,7 +100,7 @@ export async function queueInvoiceEmail(db: Knex, invoiceId: number, now = new D
       action: "invoice.email_queued",
       entity_type: "invoice",
       entity_id: String(invoiceId),
-      after: JSON.stringify({ emailId, to: doc.customer.email, number: doc.number, pdfBytes: pdf.length }),
+      after: JSON.stringify({ emailId, to: doc.customer.email, number: doc.number, pdfBytes: Buffer.byteLength(email.attachments![0].contentBase64, "base64") }),
     });
     return { status: "queued", emailId };
   });

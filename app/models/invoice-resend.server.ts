@@ -1,10 +1,7 @@
 import type { Knex } from "knex";
-import { invoiceEmail } from "~/emails/invoice";
-import { renderInvoicePdf } from "~/services/invoice-pdf.server";
-import { defaultPayLinkExpiry, payLinkUrl } from "~/services/pay-link.server";
 import { queueEmail } from "./emails.server";
 import { invoiceDocument } from "./invoice-documents.server";
-import { invoiceDedupeKey } from "./invoice-mail.server";
+import { invoiceDedupeKey, invoiceEmailFor } from "./invoice-mail.server";
 
 // Resending an invoice e-mail from the office. queueInvoiceEmail sends an invoice once (its
 // dedupe key is `invoice:<id>`); a resend is a new outbox row keyed `invoice:<id>:resend:<n>`,
@@ -15,7 +12,6 @@ export type InvoiceResend =
   | { status: "queued"; emailId: number }
   | { status: "refused"; message: string };
 
-const DAY_MS = 86_400_000;
 
 export async function resendInvoiceEmail(
   db: Knex,
@@ -47,42 +43,7 @@ export async function resendInvoiceEmail(
       .first(trx.raw("count(*)::int as n"))) as unknown as { n: number };
     const dedupeKey = `${prefix}${Number(done.n) + 1}`;
 
-    const standard = defaultPayLinkExpiry(now);
-    const afterDue = new Date(
-      Date.parse(`${doc.dueOn}T00:00:00Z`) + 30 * DAY_MS,
-    );
-    const payUrl =
-      doc.status === "open" && doc.balanceCents > 0
-        ? payLinkUrl(input.invoiceId, afterDue > standard ? afterDue : standard)
-        : null;
-    const pdf = await renderInvoicePdf(doc, { payUrl });
-    const content = invoiceEmail({
-      customerName: doc.customer.name,
-      number: doc.number,
-      issuedOn: doc.issuedOn,
-      dueOn: doc.dueOn,
-      totalCents: doc.totalCents,
-      yardName: doc.visit?.yardName ?? null,
-      serviceDate: doc.visit?.serviceDate ?? null,
-      coloniesTreated: doc.coloniesTreated,
-      payUrl,
-    });
-    const emailId = await queueEmail(trx, {
-      kind: "invoice",
-      to: doc.customer.email,
-      ...content,
-      customerId: doc.customer.id,
-      invoiceId: input.invoiceId,
-      visitId: doc.visit?.id ?? null,
-      dedupeKey,
-      attachments: [
-        {
-          filename: `invoice-${doc.number}.pdf`,
-          contentType: "application/pdf",
-          contentBase64: pdf.toString("base64"),
-        },
-      ],
-    });
+    const emailId = await queueEmail(trx, await invoiceEmailFor(doc, dedupeKey, now));
     if (emailId === null)
       return {
         status: "refused",
