@@ -36,6 +36,15 @@ const RULES: Record<string, Rule> = {
   "routes/portal/yard-edit.tsx": { outcome: staffOnly("customer") },
   "routes/portal/book.tsx": { outcome: staffOnly("customer") },
   "routes/portal/bookings.tsx": { outcome: staffOnly("customer") },
+  "routes/portal/invoices.tsx": { outcome: staffOnly("customer") },
+  // ids.invoice is one of the demo customer's own invoices, with a payment on it.
+  "routes/portal/invoice.tsx": { outcome: staffOnly("customer") },
+  "routes/portal/invoice-pdf.ts": { outcome: staffOnly("customer") },
+  "routes/portal/invoice-receipt.ts": { outcome: staffOnly("customer") },
+  "routes/portal/season.tsx": { outcome: staffOnly("customer") },
+  "routes/portal/season-pdf.ts": { outcome: staffOnly("customer") },
+  "routes/portal/account.tsx": { outcome: staffOnly("customer") },
+  "routes/portal/account-export.ts": { outcome: staffOnly("customer") },
   // The visit in the test is the demo customer's, but not finished: its report does not exist yet.
   "routes/portal/visit-report.tsx": { outcome: (who) => (who === "customer" ? "not-found" : staffOnly("customer")(who)) },
   "routes/dispatch/layout.tsx": { outcome: staffOnly("dispatcher", "owner") },
@@ -58,6 +67,12 @@ const RULES: Record<string, Rule> = {
   "routes/office/invoices.tsx": { outcome: staffOnly("office", "owner") },
   "routes/office/invoice.tsx": { outcome: staffOnly("office", "owner") },
   "routes/office/invoice-pdf.ts": { outcome: staffOnly("office", "owner") },
+  "routes/office/records.tsx": { outcome: staffOnly("office", "owner") },
+  "routes/office/records-csv.ts": { outcome: staffOnly("office", "owner") },
+  "routes/office/records-pdf.ts": { outcome: staffOnly("office", "owner") },
+  "routes/office/dashboard.tsx": { outcome: staffOnly("office", "owner") },
+  // Who changed what: the owner only.
+  "routes/office/audit.tsx": { outcome: staffOnly("owner") },
   // Remaining colonies per day: customers book from it, staff plan with it.
   "routes/api/capacity.ts": { outcome: staffOnly("customer", "dispatcher", "office", "owner") },
   // Outlines under every map: any signed-in user.
@@ -132,7 +147,11 @@ test.beforeAll(async ({ playwright, baseURL }) => {
     "insert into attachments (yard_id, original_name, content_type, byte_size, content) values ($1, 'other.png', 'image/png', $2, $3) returning id",
     [other.rows[0].id, PNG.length, PNG],
   );
-  const invoice = await client.query("select id from invoices order by id limit 1");
+  const invoice = await client.query(
+    `select invoices.id from invoices join customers on customers.id = invoices.customer_id join users on users.id = customers.user_id
+     where users.email = $1 and exists (select 1 from payments where payments.invoice_id = invoices.id) order by invoices.id limit 1`,
+    [DEMO.customer],
+  );
   await client.end();
   ids = {
     ownYard: Number(own.rows[0].id),

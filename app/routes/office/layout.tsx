@@ -13,6 +13,9 @@ export default function OfficeLayout({ loaderData }: Route.ComponentProps) {
     { to: "/office", label: "Money at a glance", end: true },
     { to: "/office/customers", label: "Customers" },
     { to: "/office/invoices", label: "Invoices" },
+    { to: "/office/records", label: "Application records" },
+    { to: "/office/dashboard", label: "Season dashboard" },
+    ...(loaderData.user.role === "owner" ? [{ to: "/office/audit", label: "Audit trail" }] : []),
     ...(loaderData.user.role === "owner" ? [{ to: "/dispatch", label: "Dispatch" }] : []),
   ];
   return (

@@ -14,6 +14,9 @@ export default function PortalLayout({ loaderData }: Route.ComponentProps) {
         { to: "/portal", label: "My yards and visits", end: true },
         { to: "/portal/book", label: "Book a treatment" },
         { to: "/portal/bookings", label: "My bookings" },
+        { to: "/portal/invoices", label: "Invoices" },
+        { to: "/portal/season", label: "Season report" },
+        { to: "/portal/account", label: "Account" },
       ]}>
       <Outlet />
     </AppShell>
