@@ -1,4 +1,5 @@
-// The background worker: delivers queued e-mail and sends the daily visit reminders.
+// The background worker: delivers queued e-mail and sends the daily visit and overdue
+// invoice reminders.
 // Usage: npm run worker   (DATABASE_URL picks the database; SMTP_* / MAIL_FROM as the app)
 // scripts/start.sh and scripts/test.sh run it beside the app. Stops cleanly on SIGINT/SIGTERM.
 //
@@ -7,26 +8,37 @@
 //   errors are retried by pg-boss with backoff.
 // - "visit-reminders" (daily cron at 09:00 business time): queue reminders for the
 //   business's tomorrow, then request their delivery.
+// - "invoice-reminders" (daily cron at 09:00 business time): queue the overdue invoice
+//   reminders due today (queueOverdueReminders), then request their delivery.
 // - "invoice-issued" jobs (sent after a visit's invoice is created, requestInvoiceEmail):
 //   render the PDF, queue the invoice e-mail once (dedupe key invoice:<id>), deliver it.
-// - every 15 s, a sweep delivers any queued or failed e-mail that is due.
+// - every 15 s, a sweep delivers any queued or failed e-mail that is due, queues the e-mail
+//   of recent invoices never e-mailed (a lost "invoice-issued" job; queueUnsentInvoiceEmails)
+//   and requests its delivery, and reschedules both daily jobs when the time zone changes.
+// - at start, after 09:00 business time, both daily jobs run once to catch up (a second
+//   run the same day queues nothing).
 import type PgBoss from "pg-boss";
 import { deliverEmail, deliverQueuedEmails, EmailNotFoundError } from "~/models/emails.server";
-import { handleInvoiceIssued } from "~/models/invoice-mail.server";
+import { handleInvoiceIssued, queueUnsentInvoiceEmails } from "~/models/invoice-mail.server";
+import { queueOverdueReminders } from "~/models/invoice-reminders.server";
 import { queueVisitReminders, reminderDateFor } from "~/models/reminders.server";
 import { loadBusinessSettings } from "~/models/settings.server";
 import { dateInZone } from "~/services/clock.server";
 import { db } from "~/services/db.server";
 import {
   INVOICE_ISSUED_QUEUE,
+  INVOICE_REMINDER_HOUR,
+  INVOICE_REMINDERS_QUEUE,
   jobsBoss,
   requestEmailDelivery,
+  scheduleInvoiceReminders,
   scheduleVisitReminders,
   SEND_EMAIL_QUEUE,
   stopJobs,
   VISIT_REMINDER_HOUR,
   VISIT_REMINDERS_QUEUE,
   type InvoiceIssuedJob,
+  type InvoiceRemindersJob,
   type SendEmailJob,
   type VisitRemindersJob,
 } from "~/services/jobs.server";
@@ -70,6 +82,14 @@ async function visitRemindersJob(jobs: PgBoss.JobWithMetadata<VisitRemindersJob>
   }
 }
 
+async function invoiceRemindersJob(jobs: PgBoss.Job<InvoiceRemindersJob>[]) {
+  for (const job of jobs) {
+    const ids = await queueOverdueReminders(db);
+    log(`overdue invoice reminders: ${ids.length} queued (job ${job.id})`);
+    await requestEmailDelivery(ids);
+  }
+}
+
 async function invoiceIssuedJob(jobs: PgBoss.Job<InvoiceIssuedJob>[]) {
   for (const job of jobs) {
     const invoiceId = Number(job.data?.invoiceId);
@@ -80,43 +100,71 @@ async function invoiceIssuedJob(jobs: PgBoss.Job<InvoiceIssuedJob>[]) {
   }
 }
 
+const hourText = (hour: number) => `${String(hour).padStart(2, "0")}:00`;
+
+/** Schedules both daily jobs in the business's time zone; returns it. */
+async function scheduleDailyJobs(boss?: PgBoss): Promise<string> {
+  const visitZone = await scheduleVisitReminders(db, boss);
+  log(`visit reminders scheduled daily at ${hourText(VISIT_REMINDER_HOUR)} ${visitZone}`);
+  const invoiceZone = await scheduleInvoiceReminders(db, boss);
+  log(`overdue invoice reminders scheduled daily at ${hourText(INVOICE_REMINDER_HOUR)} ${invoiceZone}`);
+  // Settings changed between the two: the next sweep schedules both again.
+  return visitZone === invoiceZone ? visitZone : "";
+}
+
 let scheduledTimeZone = "";
 
 async function sweep() {
+  // Each step on its own: one failing does not hold up the others.
   try {
     const sent = await deliverQueuedEmails(db, 50, {
       onResult: (emailId, result) => log(`sweep: email ${emailId}: ${result instanceof Error ? `error: ${result.message}` : result}`),
     });
     if (sent > 0) log(`sweep: ${sent} sent`);
-    // Follow a change of the business's time zone in settings.
-    const { timeZone } = await loadBusinessSettings(db);
-    if (timeZone !== scheduledTimeZone) {
-      scheduledTimeZone = await scheduleVisitReminders(db);
-      log(`visit reminders rescheduled daily at ${String(VISIT_REMINDER_HOUR).padStart(2, "0")}:00 ${scheduledTimeZone}`);
+  } catch (error) {
+    log(`sweep: delivery failed: ${errorText(error)}`);
+  }
+  try {
+    const ids = await queueUnsentInvoiceEmails(db);
+    if (ids.length > 0) {
+      log(`sweep: ${ids.length} invoice e-mail(s) never sent queued now: ${ids.join(", ")}`);
+      await requestEmailDelivery(ids);
     }
   } catch (error) {
-    log(`sweep failed: ${errorText(error)}`);
+    log(`sweep: invoice e-mail catch-up failed: ${errorText(error)}`);
+  }
+  try {
+    // Follow a change of the business's time zone in settings.
+    const { timeZone } = await loadBusinessSettings(db);
+    if (timeZone !== scheduledTimeZone) scheduledTimeZone = await scheduleDailyJobs();
+  } catch (error) {
+    log(`sweep: rescheduling failed: ${errorText(error)}`);
   }
 }
 
 async function main() {
   const boss = await jobsBoss("worker");
   log("pg-boss started");
-  scheduledTimeZone = await scheduleVisitReminders(db, boss);
-  log(`visit reminders scheduled daily at ${String(VISIT_REMINDER_HOUR).padStart(2, "0")}:00 ${scheduledTimeZone}`);
+  scheduledTimeZone = await scheduleDailyJobs(boss);
 
   await boss.work<SendEmailJob>(SEND_EMAIL_QUEUE, { batchSize: 5, pollingIntervalSeconds: 1 }, sendEmailJob);
   await boss.work<VisitRemindersJob>(VISIT_REMINDERS_QUEUE, { includeMetadata: true, pollingIntervalSeconds: 5 }, visitRemindersJob);
+  await boss.work<InvoiceRemindersJob>(INVOICE_REMINDERS_QUEUE, { pollingIntervalSeconds: 5 }, invoiceRemindersJob);
   await boss.work<InvoiceIssuedJob>(INVOICE_ISSUED_QUEUE, { pollingIntervalSeconds: 2 }, invoiceIssuedJob);
-  log(`working "${SEND_EMAIL_QUEUE}", "${VISIT_REMINDERS_QUEUE}" and "${INVOICE_ISSUED_QUEUE}"`);
+  log(`working "${SEND_EMAIL_QUEUE}", "${VISIT_REMINDERS_QUEUE}", "${INVOICE_REMINDERS_QUEUE}" and "${INVOICE_ISSUED_QUEUE}"`);
 
   // Catch up when started after today's reminder time (a second run queues nothing new).
   const now = new Date();
-  const localHour = Number(new Intl.DateTimeFormat("en-US", { hour: "numeric", hourCycle: "h23", timeZone: scheduledTimeZone }).format(now));
+  const { timeZone } = await loadBusinessSettings(db);
+  const localHour = Number(new Intl.DateTimeFormat("en-US", { hour: "numeric", hourCycle: "h23", timeZone }).format(now));
   if (localHour >= VISIT_REMINDER_HOUR) {
     const serviceDate = await reminderDateFor(db, now);
     await boss.send(VISIT_REMINDERS_QUEUE, { serviceDate } satisfies VisitRemindersJob);
-    log(`catch-up: visit reminders for ${serviceDate} requested (it is past ${VISIT_REMINDER_HOUR}:00 on ${dateInZone(now, scheduledTimeZone)})`);
+    log(`catch-up: visit reminders for ${serviceDate} requested (it is past ${hourText(VISIT_REMINDER_HOUR)} on ${dateInZone(now, timeZone)})`);
+  }
+  if (localHour >= INVOICE_REMINDER_HOUR) {
+    await boss.send(INVOICE_REMINDERS_QUEUE, {} satisfies InvoiceRemindersJob);
+    log(`catch-up: overdue invoice reminders requested (it is past ${hourText(INVOICE_REMINDER_HOUR)} on ${dateInZone(now, timeZone)})`);
   }
 
   let sweeping: Promise<void> | null = null;

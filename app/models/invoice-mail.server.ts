@@ -152,9 +152,9 @@ export async function requestInvoiceEmail(invoiceId: number): Promise<void> {
 }
 
 /**
- * Catch-up for lost "invoice-issued" jobs (not wired yet; meant for the worker's sweep):
- * queues the e-mail of open invoices created in the last `withinDays` days, at least
- * `graceMinutes` ago, that were never e-mailed. Returns the e-mails queued now.
+ * Catch-up for lost "invoice-issued" jobs, run by the worker's 15 s sweep (which then
+ * requests delivery): queues the e-mail of open invoices created in the last `withinDays`
+ * days, at least `graceMinutes` ago, that were never e-mailed. Returns the e-mails queued now.
  */
 export async function queueUnsentInvoiceEmails(db: Knex, options: { withinDays?: number; graceMinutes?: number; limit?: number } = {}): Promise<number[]> {
   const rows = await db("invoices")
@@ -167,8 +167,13 @@ export async function queueUnsentInvoiceEmails(db: Knex, options: { withinDays?:
     .select("id");
   const ids: number[] = [];
   for (const { id } of rows) {
-    const result = await queueInvoiceEmail(db, Number(id));
-    if (result.status === "queued") ids.push(result.emailId);
+    // One invoice that fails (e.g. its PDF) must not hold up the ones after it.
+    try {
+      const result = await queueInvoiceEmail(db, Number(id));
+      if (result.status === "queued") ids.push(result.emailId);
+    } catch (error) {
+      console.error(`[invoice-mail] catch-up for invoice ${id} failed: ${error instanceof Error ? error.message : String(error)}`);
+    }
   }
   return ids;
 }

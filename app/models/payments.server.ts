@@ -2,7 +2,9 @@ import type { Knex } from "knex";
 import type Stripe from "stripe";
 import { formatDollars } from "~/domain/billing";
 import type { InvoiceRow, PaymentRow } from "./tables";
+import { requestEmailDelivery } from "~/services/jobs.server";
 import { stripeClient, stripeConfig } from "~/services/stripe.server";
+import { queueReceiptEmail } from "./receipts.server";
 
 // Money in: card payments through Stripe Checkout (confirmed only by a signed webhook),
 // cash and cheque recorded by the office; money out: refunds (card through Stripe, cash and
@@ -20,6 +22,10 @@ import { stripeClient, stripeConfig } from "~/services/stripe.server";
 // (unique columns), and the status is recomputed from the rows, so events in any order end
 // in one correct state. A refund event for a payment not recorded yet records the payment
 // first from the payment intent (its metadata carries the invoice id).
+//
+// Receipts: every payment recorded here (a new card payment from a webhook, an office cash
+// or cheque payment) queues its receipt e-mail in the same transaction (receipts.server.ts,
+// once per payment); delivery is requested after commit.
 
 export const PAYMENT_UNAVAILABLE_MESSAGE = "Online payment is not available right now. Please try again in a few minutes.";
 
@@ -192,7 +198,8 @@ export async function startCardPayment(
 
 // --- Webhooks ------------------------------------------------------------------------------
 
-export type WebhookOutcome = { eventId: string; type: string; duplicate: boolean; handled: boolean };
+/** emailIds: the e-mails this event queued (receipts); their delivery is requested after commit. */
+export type WebhookOutcome = { eventId: string; type: string; duplicate: boolean; handled: boolean; emailIds: number[] };
 
 type SessionShape = { id: string; payment_intent: string | { id: string } | null; payment_status: string; amount_total: number | null; metadata: Record<string, string> | null; client_reference_id: string | null };
 type RefundShape = { id: string; amount: number; payment_intent: string | { id: string } | null; status: string | null; reason: string | null; metadata?: Record<string, string> | null };
@@ -206,8 +213,14 @@ function invoiceIdFrom(metadata: Record<string, string> | null | undefined, fall
   return text && /^\d+$/.test(text) ? Number(text) : null;
 }
 
-/** Records a card payment once (keyed by payment intent) and settles the invoice. */
-async function recordCardPayment(trx: Knex.Transaction, p: { invoiceId: number; paymentIntentId: string; amountCents: number; via: string }): Promise<PaymentRow> {
+/**
+ * Records a card payment once (keyed by payment intent), settles the invoice and queues the
+ * receipt; receiptEmailId is null when the payment was recorded before (or no receipt goes).
+ */
+async function recordCardPayment(
+  trx: Knex.Transaction,
+  p: { invoiceId: number; paymentIntentId: string; amountCents: number; via: string },
+): Promise<{ payment: PaymentRow; receiptEmailId: number | null }> {
   const invoice = await trx("invoices").where({ id: p.invoiceId }).forUpdate().first("id");
   if (!invoice) throw new Error(`Stripe paid for invoice ${p.invoiceId}, which does not exist.`);
   const [inserted] = await trx("payments")
@@ -218,9 +231,9 @@ async function recordCardPayment(trx: Knex.Transaction, p: { invoiceId: number; 
   if (inserted) {
     await audit(trx, null, "payment.card", "payment", inserted.id, null, { invoiceId: p.invoiceId, amountCents: p.amountCents, stripePaymentIntentId: p.paymentIntentId, via: p.via });
     await settleInvoice(trx, p.invoiceId, null);
-    return inserted;
+    return { payment: inserted, receiptEmailId: await queueReceiptEmail(trx, Number(inserted.id)) };
   }
-  return (await trx("payments").where({ stripe_payment_intent_id: p.paymentIntentId }).first())!;
+  return { payment: (await trx("payments").where({ stripe_payment_intent_id: p.paymentIntentId }).first())!, receiptEmailId: null };
 }
 
 /** Records a Stripe refund once (keyed by refund id) and settles the invoice. */
@@ -266,13 +279,13 @@ export async function handleStripeWebhook(db: Knex, input: { rawBody: string | B
     }
   }
 
-  return db.transaction(async (trx) => {
+  const outcome = await db.transaction(async (trx): Promise<WebhookOutcome> => {
     const [fresh] = await trx("webhook_events")
       .insert({ id: event.id, type: event.type, payload: JSON.stringify(event) })
       .onConflict("id")
       .ignore()
       .returning("id");
-    if (!fresh) return { eventId: event.id, type: event.type, duplicate: true, handled: false };
+    if (!fresh) return { eventId: event.id, type: event.type, duplicate: true, handled: false, emailIds: [] };
 
     switch (event.type) {
       case "checkout.session.completed":
@@ -281,39 +294,53 @@ export async function handleStripeWebhook(db: Knex, input: { rawBody: string | B
         const piId = idOf(session.payment_intent);
         const invoiceId = invoiceIdFrom(session.metadata, session.client_reference_id);
         if (session.payment_status !== "paid" || !piId || invoiceId === null || !session.amount_total) {
-          return { eventId: event.id, type: event.type, duplicate: false, handled: false };
+          return { eventId: event.id, type: event.type, duplicate: false, handled: false, emailIds: [] };
         }
-        await recordCardPayment(trx, { invoiceId, paymentIntentId: piId, amountCents: session.amount_total, via: event.type });
-        return { eventId: event.id, type: event.type, duplicate: false, handled: true };
+        const { receiptEmailId } = await recordCardPayment(trx, { invoiceId, paymentIntentId: piId, amountCents: session.amount_total, via: event.type });
+        return { eventId: event.id, type: event.type, duplicate: false, handled: true, emailIds: receiptEmailId === null ? [] : [receiptEmailId] };
       }
       case "refund.created":
       case "refund.updated": {
         const refund = event.data.object as unknown as RefundShape;
         const piId = idOf(refund.payment_intent);
-        if (!piId || refund.status === "failed" || refund.status === "canceled") return { eventId: event.id, type: event.type, duplicate: false, handled: false };
+        if (!piId || refund.status === "failed" || refund.status === "canceled") return { eventId: event.id, type: event.type, duplicate: false, handled: false, emailIds: [] };
         let payment = await trx("payments").where({ stripe_payment_intent_id: piId }).first();
+        const emailIds: number[] = [];
         if (!payment && intentForRefund) {
-          payment = await recordCardPayment(trx, { invoiceId: intentForRefund.invoiceId, paymentIntentId: piId, amountCents: intentForRefund.amountCents, via: event.type });
+          const recorded = await recordCardPayment(trx, { invoiceId: intentForRefund.invoiceId, paymentIntentId: piId, amountCents: intentForRefund.amountCents, via: event.type });
+          payment = recorded.payment;
+          if (recorded.receiptEmailId !== null) emailIds.push(recorded.receiptEmailId);
         }
-        if (!payment) return { eventId: event.id, type: event.type, duplicate: false, handled: false };
+        if (!payment) return { eventId: event.id, type: event.type, duplicate: false, handled: false, emailIds: [] };
         await recordStripeRefund(trx, payment, { id: refund.id, amountCents: refund.amount, reason: refund.metadata?.reason || refund.reason || "Refunded in Stripe", actorUserId: null });
-        return { eventId: event.id, type: event.type, duplicate: false, handled: true };
+        return { eventId: event.id, type: event.type, duplicate: false, handled: true, emailIds };
       }
       default:
-        return { eventId: event.id, type: event.type, duplicate: false, handled: false };
+        return { eventId: event.id, type: event.type, duplicate: false, handled: false, emailIds: [] };
     }
   });
+  // After commit (a caller's transaction commits later: it requests delivery itself).
+  if (!db.isTransaction) await requestEmailDelivery(outcome.emailIds);
+  return outcome;
 }
 
 // --- Office: cash and cheque; refunds ------------------------------------------------------
 
+/**
+ * Records a cash or cheque payment taken by the office, settles the invoice and queues the
+ * receipt (receiptEmailId, null when none goes); delivery is requested after commit.
+ */
 export async function recordOfficePayment(
   db: Knex,
   input: { invoiceId: number; amountCents: number; method: "cash" | "cheque"; reference?: string | null; actorUserId: number; receivedAt?: Date },
-): Promise<{ paymentId: number; status: InvoiceRow["status"]; balanceCents: number }> {
+): Promise<{ paymentId: number; status: InvoiceRow["status"]; balanceCents: number; receiptEmailId: number | null }> {
+  if (!Number.isSafeInteger(input.invoiceId) || input.invoiceId <= 0) throw new PaymentRefused(`There is no invoice ${input.invoiceId}.`);
   if (!Number.isSafeInteger(input.amountCents) || input.amountCents <= 0) throw new PaymentRefused("The amount must be more than $0.00.");
   if (input.method !== "cash" && input.method !== "cheque") throw new PaymentRefused("The office records cash or cheque payments only.");
-  return db.transaction(async (trx) => {
+  if (input.receivedAt !== undefined && !(input.receivedAt instanceof Date && Number.isFinite(input.receivedAt.getTime()))) {
+    throw new PaymentRefused("The date received is not a valid date.");
+  }
+  const result = await db.transaction(async (trx) => {
     const invoice = await trx("invoices").where({ id: input.invoiceId }).forUpdate().first();
     if (!invoice) throw new PaymentRefused(`There is no invoice ${input.invoiceId}.`);
     if (invoice.status !== "open") throw new PaymentRefused(`Invoice ${invoice.number} is ${invoice.status}; it takes no more payments.`);
@@ -328,8 +355,11 @@ export async function recordOfficePayment(
     const paymentId = Number(payment.id);
     await audit(trx, input.actorUserId, "payment.record", "payment", paymentId, null, { invoiceId: invoice.id, amountCents: input.amountCents, method: input.method, reference });
     const status = await settleInvoice(trx, invoice.id, input.actorUserId);
-    return { paymentId, status, balanceCents: money.balanceCents - input.amountCents };
+    const receiptEmailId = await queueReceiptEmail(trx, paymentId);
+    return { paymentId, status, balanceCents: money.balanceCents - input.amountCents, receiptEmailId };
   });
+  if (result.receiptEmailId !== null && !db.isTransaction) await requestEmailDelivery([result.receiptEmailId]);
+  return result;
 }
 
 /**

@@ -14,11 +14,17 @@ export const INVOICE_ISSUED_QUEUE = "invoice-issued";
 /** Visit reminders go out at 09:00 in the business's time zone, the day before the visit. */
 export const VISIT_REMINDER_HOUR = 9;
 export const VISIT_REMINDER_CRON = `0 ${VISIT_REMINDER_HOUR} * * *`;
+/** Overdue invoice reminders (app/models/invoice-reminders.server.ts): daily, at the visit reminders' hour. */
+export const INVOICE_REMINDERS_QUEUE = "invoice-reminders";
+export const INVOICE_REMINDER_HOUR = VISIT_REMINDER_HOUR;
+export const INVOICE_REMINDER_CRON = `0 ${INVOICE_REMINDER_HOUR} * * *`;
 
 export type SendEmailJob = { emailId: number };
 /** serviceDate is optional: the cron job carries none, and the worker reminds for the day after the job was created. */
 export type VisitRemindersJob = { serviceDate?: string };
 export type InvoiceIssuedJob = { invoiceId: number };
+/** No data: the worker reminds about what is overdue when the job runs. */
+export type InvoiceRemindersJob = Record<string, never>;
 
 type Role = "sender" | "worker";
 type BossState = { role: Role; boss: PgBoss; ready: Promise<PgBoss> };
@@ -53,6 +59,14 @@ function createBoss(role: Role): BossState {
       retryBackoff: true,
       expireInSeconds: 15 * 60,
     });
+    await boss.createQueue(INVOICE_REMINDERS_QUEUE, {
+      name: INVOICE_REMINDERS_QUEUE,
+      // Queueing is idempotent (dedupe key per invoice and reminder), so a retry sends nothing twice.
+      retryLimit: 4,
+      retryDelay: 120,
+      retryBackoff: true,
+      expireInSeconds: 15 * 60,
+    });
     await boss.createQueue(INVOICE_ISSUED_QUEUE, {
       name: INVOICE_ISSUED_QUEUE,
       // Queueing the e-mail is idempotent (dedupe key per invoice), so a retry never sends twice.
@@ -67,7 +81,7 @@ function createBoss(role: Role): BossState {
 }
 
 /**
- * The process's PgBoss, started and with both queues created. The first caller picks the
+ * The process's PgBoss, started and with every queue created. The first caller picks the
  * role: scripts/worker.ts asks for "worker" before anything else; everyone else gets a
  * sender. A failed start is forgotten, so the next call tries again.
  */
@@ -141,5 +155,16 @@ export async function scheduleVisitReminders(db: Knex, boss?: PgBoss): Promise<s
   const { timeZone } = await loadBusinessSettings(db);
   const instance = boss ?? (await jobsBoss());
   await instance.schedule(VISIT_REMINDERS_QUEUE, VISIT_REMINDER_CRON, {}, { tz: timeZone });
+  return timeZone;
+}
+
+/**
+ * Schedules the daily overdue invoice reminders at 09:00 in the business's time zone (from
+ * settings); scheduling again replaces the schedule. Returns the time zone used. Worker only.
+ */
+export async function scheduleInvoiceReminders(db: Knex, boss?: PgBoss): Promise<string> {
+  const { timeZone } = await loadBusinessSettings(db);
+  const instance = boss ?? (await jobsBoss());
+  await instance.schedule(INVOICE_REMINDERS_QUEUE, INVOICE_REMINDER_CRON, {}, { tz: timeZone });
   return timeZone;
 }
