@@ -41,6 +41,12 @@ const LINE = "#d5d2c7";
 const PINE = "#175a43";
 const PINE_50 = "#eaf3ef";
 
+/** For other documents in the same look (e.g. the receipt): Varroute's PDF palette and its Work Sans files. */
+export const PDF_COLOURS = { ink: INK, inkSoft: INK_SOFT, line: LINE, pine: PINE, pine50: PINE_50 } as const;
+export function workSansFonts(): Record<FontName, Buffer> {
+  return fonts();
+}
+
 const STATUS_STAMP: Partial<Record<InvoiceDocument["status"], string>> = { paid: "PAID", void: "VOID", refunded: "REFUNDED" };
 
 function quantityText(quantity: number): string {
