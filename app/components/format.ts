@@ -38,3 +38,19 @@ const TIME_PREFERENCE_NAMES: Record<string, string> = { any: "Any time", morning
 export function timePreferenceName(pref: string): string {
   return TIME_PREFERENCE_NAMES[pref] ?? pref;
 }
+
+/**
+ * A date and time of an instant in the business's time zone, with the zone's abbreviation,
+ * e.g. "Nov 20, 2026, 9:40 AM EST".
+ */
+export function formatInstant(instant: Date | string, timeZone: string): string {
+  return new Intl.DateTimeFormat("en-US", {
+    month: "short",
+    day: "numeric",
+    year: "numeric",
+    hour: "numeric",
+    minute: "2-digit",
+    timeZone,
+    timeZoneName: "short",
+  }).format(new Date(instant));
+}

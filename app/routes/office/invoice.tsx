@@ -1,5 +1,5 @@
 import { data, Form, Link, useNavigation } from "react-router";
-import { formatCents, formatServiceDate } from "~/components/format";
+import { formatCents, formatInstant, formatServiceDate } from "~/components/format";
 import { Button, buttonClass } from "~/components/ui/button";
 import { Card, PageHeader } from "~/components/ui/card";
 import { Field, FormMessage } from "~/components/ui/field";
@@ -14,6 +14,7 @@ import { invoiceDocument } from "~/models/invoice-documents.server";
 import { invoiceEmailLog } from "~/models/invoice-mail.server";
 import { resendInvoiceEmail } from "~/models/invoice-resend.server";
 import { VoidRefused, voidInvoice } from "~/models/office-invoices.server";
+import { loadBusinessSettings } from "~/models/settings.server";
 import {
   invoiceBalance,
   PaymentRefused,
@@ -42,7 +43,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const invoiceId = invoiceIdFrom(params.invoiceId);
   const doc = await invoiceDocument(db, invoiceId);
   if (!doc) throw data("There is no such invoice.", { status: 404 });
-  const [row, money, payments, refunds, emails, today] = await Promise.all([
+  const [row, money, payments, refunds, emails, today, settings] = await Promise.all([
     db("invoices").where({ id: invoiceId }).first("void_reason"),
     invoiceBalance(db, invoiceId),
     db("payments")
@@ -63,12 +64,14 @@ export async function loader({ request, params }: Route.LoaderArgs) {
       ),
     invoiceEmailLog(db, invoiceId),
     businessToday(db),
+    loadBusinessSettings(db),
   ]);
   return {
     invoice: doc,
     voidReason: row?.void_reason ?? null,
     money,
     overdue: doc.status === "open" && doc.dueOn < today,
+    timeZone: settings.timeZone,
     payments: payments.map((p) => {
       const own = refunds.filter((r) => Number(r.payment_id) === Number(p.id));
       const refunded = own.reduce((sum, r) => sum + Number(r.amount_cents), 0);
@@ -208,12 +211,6 @@ export async function action({ request, params }: Route.ActionArgs) {
   }
 }
 
-const dateTime = (iso: string) =>
-  new Date(iso).toLocaleString("en-US", {
-    dateStyle: "medium",
-    timeStyle: "short",
-    timeZone: "UTC",
-  }) + " UTC";
 const selectStyle =
   "min-h-11 rounded-lg border-2 border-line bg-card px-2 text-base focus:border-pine-600";
 
@@ -222,6 +219,8 @@ export default function OfficeInvoice({
   actionData,
 }: Route.ComponentProps) {
   const { invoice, money, payments, emails, overdue, voidReason } = loaderData;
+  // Times in the business's time zone, with its abbreviation.
+  const dateTime = (iso: string) => formatInstant(iso, loaderData.timeZone);
   const navigation = useNavigation();
   const busy = navigation.state !== "idle";
   const errorsFor = (intent: string): FieldErrors =>

@@ -4,12 +4,11 @@ import { Card, PageHeader, Stat } from "~/components/ui/card";
 import { Table, Td, Th } from "~/components/ui/table";
 import { broodStatusName, formatCents, formatServiceDate, timePreferenceName, visitStatusName } from "~/components/format";
 import { SafetyCautions } from "~/components/safety-cautions";
-import { invoiceTotals, invoicesForCustomer } from "~/models/invoices.server";
+import { listCustomerInvoices, owedSummary } from "~/models/portal-invoices.server";
 import { upcomingVisitsForCustomer } from "~/models/visits.server";
 import { listYardsForCustomer } from "~/models/yards.server";
 import { businessToday } from "~/services/clock.server";
 import { db } from "~/services/db.server";
-import { payLinkToken } from "~/services/pay-link.server";
 import { requireCustomer } from "~/services/permissions.server";
 import type { Route } from "./+types/home";
 
@@ -18,19 +17,16 @@ export const meta: Route.MetaFunction = () => [{ title: "My yards · Varroute" }
 export async function loader({ request }: Route.LoaderArgs) {
   const user = await requireCustomer(request);
   const today = await businessToday(db);
-  const [yards, visits, invoices, totals] = await Promise.all([
+  const [yards, visits, invoices] = await Promise.all([
     listYardsForCustomer(db, user.customerId, today),
     upcomingVisitsForCustomer(db, user.customerId, today),
-    invoicesForCustomer(db, user.customerId, 5),
-    invoiceTotals(db, today, user.customerId),
+    listCustomerInvoices(db, user.customerId),
   ]);
-  // Open invoices get a pay link (relative, so it works behind any host name).
-  const withPay = invoices.map((i) => ({ ...i, payPath: i.status === "open" ? `/pay/${payLinkToken(i.id)}` : null }));
-  return { name: user.name, yards, visits, invoices: withPay, totals };
+  return { name: user.name, yards, visits, invoiceCount: invoices.length, owed: owedSummary(invoices) };
 }
 
 export default function PortalHome({ loaderData }: Route.ComponentProps) {
-  const { yards, visits, invoices, totals } = loaderData;
+  const { yards, visits, invoiceCount, owed } = loaderData;
   const colonies = yards.reduce((sum, y) => sum + y.colonyCount, 0);
   return (
     <>
@@ -54,7 +50,7 @@ export default function PortalHome({ loaderData }: Route.ComponentProps) {
         <Stat label="Yards" value={yards.length} />
         <Stat label="Colonies" value={colonies} />
         <Stat label="Visits booked" value={visits.length} />
-        <Stat label="To pay" value={formatCents(totals.open.cents)} tone={totals.overdue.count > 0 ? "attention" : "plain"} />
+        <Stat label="To pay" value={formatCents(owed.owedCents)} tone={owed.overdueCount > 0 ? "attention" : "plain"} />
       </div>
       <div className="grid gap-6 lg:grid-cols-3">
         <div className="flex min-w-0 flex-col gap-6 lg:col-span-2">
@@ -114,38 +110,17 @@ export default function PortalHome({ loaderData }: Route.ComponentProps) {
               ))}
             </Table>
           </Card>
-          <Card title="Recent invoices">
-            <Table
-              caption="Recent invoices"
-              empty="No invoices yet."
-              head={
-                <>
-                  <Th>Number</Th>
-                  <Th>Issued</Th>
-                  <Th>Due</Th>
-                  <Th align="right">Total</Th>
-                  <Th>Status</Th>
-                </>
-              }
-            >
-              {invoices.map((invoice) => (
-                <tr key={invoice.id}>
-                  <Td>{invoice.number}</Td>
-                  <Td>{formatServiceDate(invoice.issuedOn)}</Td>
-                  <Td>{formatServiceDate(invoice.dueOn)}</Td>
-                  <Td align="right">{formatCents(invoice.totalCents)}</Td>
-                  <Td className="capitalize">
-                    {invoice.payPath ? (
-                      <Link to={invoice.payPath} className="font-semibold text-pine-800 underline">
-                        {invoice.status}: pay <span className="sr-only">invoice {invoice.number}</span>
-                      </Link>
-                    ) : (
-                      invoice.status
-                    )}
-                  </Td>
-                </tr>
-              ))}
-            </Table>
+          <Card title="Invoices">
+            <p className="text-lg">
+              {owed.openCount === 0
+                ? invoiceCount === 0
+                  ? "You have no invoices yet."
+                  : "Nothing to pay at the moment."
+                : `${formatCents(owed.owedCents)} to pay on ${owed.openCount === 1 ? "1 invoice" : `${owed.openCount} invoices`}${owed.overdueCount > 0 ? `, ${owed.overdueCount} of them overdue` : ""}.`}
+            </p>
+            <Link to="/portal/invoices" className={buttonClass(owed.openCount > 0 ? "primary" : "secondary", "mt-3")}>
+              {owed.openCount > 0 ? "See and pay your invoices" : "See your invoices"}
+            </Link>
           </Card>
         </div>
         <SafetyCautions audience="customer" />

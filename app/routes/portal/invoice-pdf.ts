@@ -1,11 +1,24 @@
-import { AREA_ROLES, requireCustomer, requireRole } from "~/services/permissions.server";
+import { data } from "react-router";
+import { customerInvoice, parsePortalInvoiceId } from "~/models/portal-invoices.server";
+import { db } from "~/services/db.server";
+import { renderInvoicePdf } from "~/services/invoice-pdf.server";
+import { payLinkUrl } from "~/services/pay-link.server";
+import { requireCustomer } from "~/services/permissions.server";
 import type { Route } from "./+types/invoice-pdf";
 
-// Placeholder while this resource is being built (replaced in the same change set).
-export async function loader({ request }: Route.LoaderArgs) {
-  void AREA_ROLES;
-  void requireCustomer;
-  void requireRole;
-  await requireCustomer(request);
-  return new Response("", { status: 200 });
+// The customer's own invoice as a PDF, with the pay link on it while money is owed.
+export async function loader({ request, params }: Route.LoaderArgs) {
+  const user = await requireCustomer(request);
+  const invoiceId = parsePortalInvoiceId(params.invoiceId);
+  const invoice = invoiceId ? await customerInvoice(db, user.customerId, invoiceId) : null;
+  if (!invoice) throw data("There is no such invoice in your account.", { status: 404 });
+  const pdf = await renderInvoicePdf(invoice, { payUrl: invoice.payable ? payLinkUrl(invoice.invoiceId) : null });
+  return new Response(new Uint8Array(pdf), {
+    headers: {
+      "Content-Type": "application/pdf",
+      "Content-Disposition": `inline; filename="invoice-${invoice.number}.pdf"`,
+      "Cache-Control": "private, no-store",
+      "X-Content-Type-Options": "nosniff",
+    },
+  });
 }
