@@ -20,11 +20,11 @@ test("public pages", async ({ page }) => {
 });
 
 const PAGES: Record<DemoRole, string[]> = {
-  owner: ["/dispatch", "/dispatch/settings", "/office"],
+  owner: ["/dispatch", "/dispatch/settings", "/office", "/office/dashboard", "/office/audit"],
   dispatcher: ["/dispatch", "/dispatch/settings", "/dispatch/calendar", "/dispatch/map", "/dispatch/customers", "/dispatch/yards"],
-  office: ["/office", "/office/customers", "/office/customers/import", "/office/invoices"],
+  office: ["/office", "/office/customers", "/office/customers/import", "/office/invoices", "/office/records", "/office/dashboard"],
   crew: ["/crew"],
-  customer: ["/portal", "/portal/book", "/portal/bookings", "/portal/yards/new"],
+  customer: ["/portal", "/portal/book", "/portal/bookings", "/portal/yards/new", "/portal/invoices", "/portal/season", "/portal/account"],
 };
 
 for (const role of Object.keys(PAGES) as DemoRole[]) {
@@ -36,9 +36,13 @@ for (const role of Object.keys(PAGES) as DemoRole[]) {
     );
     const [visit] = await queryTestDatabase<{ id: number }>("select id from visits where status = 'scheduled' order by service_date, id limit 1");
     const [invoice] = await queryTestDatabase<{ id: number }>("select id from invoices where status = 'paid' order by id limit 1");
+    const [ownInvoice] = await queryTestDatabase<{ id: number }>(
+      "select invoices.id from invoices join customers on customers.id = invoices.customer_id join users on users.id = customers.user_id where users.email = $1 order by invoices.id limit 1",
+      [DEMO.customer],
+    );
     const extra =
       role === "customer"
-        ? [`/portal/yards/${yard.id}`, `/portal/yards/${yard.id}/edit`]
+        ? [`/portal/yards/${yard.id}`, `/portal/yards/${yard.id}/edit`, `/portal/invoices/${ownInvoice.id}`]
         : role === "dispatcher"
           ? [`/dispatch/yards/${yard.id}`, `/dispatch/visits/${visit.id}`]
           : role === "office"

@@ -203,6 +203,8 @@ type RecordSqlRow = {
   finished_at: Date | null;
   finished_by: number | null;
   weather_note: string | null;
+  product_name: string | null;
+  product_registration_number: string | null;
   customer_id: number;
   customer_name: string;
   address_line: string | null;
@@ -236,7 +238,7 @@ function recordsSql(filters: RecordFilters): { sql: string; bindings: (string | 
   }
   const sql = `
     select v.id as visit_id, v.service_date,
-      coalesce(v.started_at, v.supers_confirmed_at) as started_at, v.finished_at, v.finished_by, v.weather_note,
+      coalesce(v.started_at, v.supers_confirmed_at) as started_at, v.finished_at, v.finished_by, v.weather_note, v.product_name, v.product_registration_number,
       c.id as customer_id, c.name as customer_name, c.address_line, c.city, c.region, c.postal_code, c.anonymised_at,
       y.id as yard_id, y.name as yard_name, y.address as yard_address, y.lat, y.lng,
       k.crew_id, cr.name as crew_name,
@@ -371,8 +373,9 @@ export async function applicationRecords(db: Knex, filters: RecordFilters, pagin
       coloniesTreated: Number(r.colonies_treated),
       coloniesSkipped: Number(r.colonies_skipped),
       gramsApplied: centigramsToGrams(Number(r.centigrams)),
-      productName: settings.productName,
-      productRegistrationNumber: settings.productRegistrationNumber,
+      // As recorded when the visit was finished; settings for visits finished before that was kept.
+      productName: r.product_name ?? settings.productName,
+      productRegistrationNumber: r.product_registration_number ?? settings.productRegistrationNumber,
       applicators: applicators.get(r.visit_id) ?? [],
       weatherNote: r.weather_note?.trim() || null,
     })),

@@ -126,6 +126,9 @@ export interface VisitRow extends Stamps {
   finish_key: string | null;
   report_sent_at: Date | null;
   weather_note: string | null;
+  /** The product and its registration number as in settings when the visit was finished (null before that). */
+  product_name: string | null;
+  product_registration_number: string | null;
   notes: string | null;
   defer_reason: string | null;
 }

@@ -958,6 +958,8 @@ async function finishVisitTx(trx: Knex.Transaction, input: FinishInput, now: Dat
       finish_key: key,
       weather_note: payload.data.weatherNote,
       notes: payload.data.notes,
+      product_name: settings.productName,
+      product_registration_number: settings.productRegistrationNumber,
       started_at: trx.raw("coalesce(started_at, supers_confirmed_at, ?)", [finishedAt]) as unknown as Date,
       updated_at: trx.fn.now() as unknown as Date,
     });

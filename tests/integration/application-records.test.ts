@@ -255,6 +255,23 @@ describe("application records", () => {
     }
   });
 
+  it("keep the product a visit was finished with when settings change later", async () => {
+    const owner = await db("users").where({ role: "owner" }).first("id");
+    await saveBusinessSettings(db, { ...defaultBusinessSettings, productName: "Another product", productRegistrationNumber: "REG-OTHER-2", timeZone: TIME_ZONE }, Number(owner!.id));
+    try {
+      const records = await applicationRecords(db, PERIOD);
+      expect(records.rows.length).toBeGreaterThan(0);
+      for (const row of records.rows) expect([row.productName, row.productRegistrationNumber]).toEqual([PRODUCT, REGISTRATION]);
+      // A visit finished before products were kept on the visit falls back to the settings.
+      await db("visits").where({ id: stops.v1.visitId }).update({ product_name: null, product_registration_number: null });
+      const again = await applicationRecords(db, PERIOD);
+      expect(again.rows.find((r) => r.visitId === stops.v1.visitId)).toMatchObject({ productName: "Another product", productRegistrationNumber: "REG-OTHER-2" });
+      await db("visits").where({ id: stops.v1.visitId }).update({ product_name: PRODUCT, product_registration_number: REGISTRATION });
+    } finally {
+      await saveBusinessSettings(db, { ...defaultBusinessSettings, productName: PRODUCT, productRegistrationNumber: REGISTRATION, timeZone: TIME_ZONE }, Number(owner!.id));
+    }
+  });
+
   it("narrow by crew and by customer", async () => {
     for (const filters of [
       { ...PERIOD, crewId: north.id },

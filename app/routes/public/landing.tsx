@@ -1,4 +1,4 @@
-import { Link } from "react-router";
+import { Link, useSearchParams } from "react-router";
 import { SafetyCautions } from "~/components/safety-cautions";
 import { buttonClass } from "~/components/ui/button";
 import type { Route } from "./+types/landing";
@@ -16,8 +16,17 @@ const STEPS = [
 ];
 
 export default function Landing() {
+  // After a customer deletes their account (app/routes/portal/account.tsx).
+  const [params] = useSearchParams();
+  const accountDeleted = params.get("accountDeleted") === "1";
   return (
     <div className="mx-auto max-w-5xl px-4 py-10">
+      {accountDeleted ? (
+        <p role="status" className="mb-8 rounded-xl border-2 border-pine-700 bg-pine-50 p-4 text-lg">
+          Your account is deleted and you are signed out. Invoices and treatment records are kept without your name or contact details, as the
+          law requires.
+        </p>
+      ) : null}
       <section className="grid items-center gap-8 md:grid-cols-5">
         <div className="md:col-span-3">
           <p className="font-semibold tracking-wide text-ochre-700 uppercase">Varroa mite treatment for hobbyist beekeepers</p>
