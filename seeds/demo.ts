@@ -1664,5 +1664,7 @@ export async function seed(knex: Knex): Promise<void> {
       throw new Error("demo seed: the users table is not empty; the demo seed only runs on an empty database");
     }
     await writePlan(trx, plan);
+    // The demo business on its paperwork; every other setting keeps its default.
+    await trx("settings").insert({ key: "business", value: JSON.stringify({ businessName: DEMO_BUSINESS_NAME, businessAddress: "12 Kiln Lane, Ithaca, NY 14850" }) });
   });
 }

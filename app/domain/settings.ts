@@ -72,6 +72,18 @@ export const businessSettingsSchema = z
   .object({
     unitSystem: z.enum(["metric", "us"], { error: "Choose metric or US units." }).default("us"),
 
+    // Printed on invoices, receipts and reports; empty uses the name in MAIL_FROM.
+    businessName: z
+      .string({ error: "Enter the business name." })
+      .trim()
+      .max(120, { error: "The business name must be at most 120 characters." })
+      .default(""),
+    businessAddress: z
+      .string({ error: "Enter the business address." })
+      .trim()
+      .max(300, { error: "The business address must be at most 300 characters." })
+      .default(""),
+
     doseGramsPerBroodBox: numberField("the dose per brood box", 0.01, 10, "g").default(1),
     labelMaximumGramsPerBroodBox: numberField("the label maximum per brood box", 0.01, 10, "g").default(1),
     productName: z
@@ -324,6 +336,16 @@ export const settingsFieldInfo: Record<keyof BusinessSettings, SettingsFieldInfo
     unit: "km/h",
     explanation: "Average speed over a whole drive, stops and junctions included, used for estimated drive times.",
     source: "About 37 mph (≈ 60 km/h) on rural trips (Pew Research Center analysis, 2018)",
+  },
+  businessName: {
+    label: "Business name",
+    unit: "",
+    explanation: "As printed on invoices, receipts, reports and application records. Left empty: the sender name of outgoing e-mail.",
+  },
+  businessAddress: {
+    label: "Business address",
+    unit: "",
+    explanation: "Postal address printed under the name on invoices, receipts and reports.",
   },
   timeZone: {
     label: "Business time zone",

@@ -1,5 +1,6 @@
 import type { Knex } from "knex";
 import { mailFrom } from "~/services/mail.server";
+import { businessIdentity, loadBusinessSettings } from "./settings.server";
 import type { InvoiceLineRow, InvoiceRow, PaymentRow } from "./tables";
 
 // Everything the invoice PDF and the invoice e-mail show about one invoice, read in one
@@ -40,8 +41,10 @@ export type InvoiceDocument = {
   /** What is still owed: total less net payments, never below 0 (0 for a void invoice). */
   balanceCents: number;
   sentAt: Date | null;
-  /** The business as it signs its mail: the display name of MAIL_FROM ("Varroute" if none). */
+  /** The business as in settings; without a name there, the display name of MAIL_FROM ("Varroute" if none). */
   businessName: string;
+  /** The business's postal address from settings (empty when not set). */
+  businessAddressLines: string[];
   customer: {
     id: number;
     name: string;
@@ -88,6 +91,7 @@ export async function invoiceDocument(db: Knex, invoiceId: number): Promise<Invo
         .first("visits.id", "visits.service_date", "visits.round_number", "courses.rounds_planned", "yards.name as yard_name")
     : undefined;
   const lines = await db("invoice_lines").where({ invoice_id: invoiceId }).orderBy("position").select("*");
+  const business = businessIdentity(await loadBusinessSettings(db), senderName(mailFrom()));
   const payments = await db("payments")
     .leftJoin("refunds", "refunds.payment_id", "payments.id")
     .where("payments.invoice_id", invoiceId)
@@ -134,7 +138,8 @@ export async function invoiceDocument(db: Knex, invoiceId: number): Promise<Invo
     paidCents,
     balanceCents,
     sentAt: invoice.sent_at,
-    businessName: senderName(mailFrom()),
+    businessName: business.name,
+    businessAddressLines: business.addressLines,
     customer: {
       id: Number(customer?.id ?? invoice.customer_id),
       name: customer?.name ?? "",

@@ -58,3 +58,14 @@ export async function updateBusinessSettingsFromForm(
   await saveBusinessSettings(db, parsed.data, actorUserId);
   return { ok: true, settings: parsed.data };
 }
+
+/**
+ * Who the business is on paper: the name and address lines printed on invoices, receipts and
+ * reports. The name falls back to the sender name of MAIL_FROM when settings leave it empty.
+ */
+export function businessIdentity(settings: Pick<BusinessSettings, "businessName" | "businessAddress">, fallbackName: string): { name: string; addressLines: string[] } {
+  return {
+    name: settings.businessName.trim() || fallbackName,
+    addressLines: settings.businessAddress.trim() ? [settings.businessAddress.trim()] : [],
+  };
+}

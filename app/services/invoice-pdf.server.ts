@@ -79,7 +79,9 @@ export function renderInvoicePdf(invoice: InvoiceDocument, options: InvoicePdfOp
 
   // Header: the business, then "Invoice <number>" on the right.
   doc.font("bold").fontSize(22).fillColor(PINE).text(invoice.businessName, left, 54, { width: width / 2 });
-  doc.font("regular").fontSize(10).fillColor(INK_SOFT).text("Varroa treatment with oxalic acid vapor", left, doc.y + 2, { width: width / 2 });
+  doc.font("regular").fontSize(10).fillColor(INK_SOFT);
+  for (const line of invoice.businessAddressLines) doc.text(line, left, doc.y + 1, { width: width / 2 });
+  doc.text("Varroa treatment with oxalic acid vapor", left, doc.y + 2, { width: width / 2 });
   doc.font("bold").fontSize(20).fillColor(INK).text("Invoice", left + width / 2, 54, { width: width / 2, align: "right" });
   doc.font("semibold").fontSize(12).text(invoice.number, left + width / 2, doc.y + 2, { width: width / 2, align: "right" });
   const stamp = STATUS_STAMP[invoice.status];

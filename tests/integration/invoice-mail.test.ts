@@ -38,6 +38,8 @@ beforeEach(async () => {
     db,
     {
       ...defaultBusinessSettings,
+      businessName: "Test Apiary Services",
+      businessAddress: "1 Test Road, Testville, NY 10000",
       productName: "Test oxalic acid dihydrate",
       productRegistrationNumber: "EPA Reg. No. 00000-0",
       pricePerColonyCents: 2500,
@@ -186,6 +188,9 @@ describe("the invoice e-mail", () => {
     const lines = await db("invoice_lines").where({ invoice_id: invoiceId }).orderBy("position");
     expect(lines.map((l) => l.kind)).toEqual(["colony", "trip_fee"]);
     expect(text).toContain(invoice.number);
+    // Who is billing, from settings.
+    expect(text).toContain("Test Apiary Services");
+    expect(text).toContain("1 Test Road, Testville, NY 10000");
     for (const line of lines) {
       expect(text).toContain(line.description.replace(/\s+/g, " "));
       expect(text).toContain(formatDollars(line.amount_cents));

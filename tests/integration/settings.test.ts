@@ -1,7 +1,7 @@
 import { afterAll, beforeEach, describe, expect, it } from "vitest";
 import { defaultBusinessSettings } from "~/domain/settings";
 import { settingsFormDefaults } from "~/forms/settings-form";
-import { loadBusinessSettings, updateBusinessSettingsFromForm } from "~/models/settings.server";
+import { businessIdentity, loadBusinessSettings, updateBusinessSettingsFromForm } from "~/models/settings.server";
 import { db } from "~/services/db.server";
 import { resetDatabase } from "./reset-database";
 
@@ -50,6 +50,16 @@ describe("business settings", () => {
     expect(result.errors[field]).toMatch(message);
     expect(await db("settings").count("* as n").first()).toEqual({ n: 0 });
     expect(await db("audit_log").count("* as n").first()).toEqual({ n: 0 });
+  });
+
+  it("saves the business's name and address for its paperwork; an empty name falls back to the mail sender's", async () => {
+    expect(businessIdentity(await loadBusinessSettings(db), "Sender Name")).toEqual({ name: "Sender Name", addressLines: [] });
+    const result = await updateBusinessSettingsFromForm(db, form({ businessName: "  North Slope Hive Care ", businessAddress: "4 Orchard Row, Lansing, NY 14882" }), ownerId);
+    expect(result.ok).toBe(true);
+    expect(businessIdentity(await loadBusinessSettings(db), "Sender Name")).toEqual({ name: "North Slope Hive Care", addressLines: ["4 Orchard Row, Lansing, NY 14882"] });
+    const refused = await updateBusinessSettingsFromForm(db, form({ businessName: "x".repeat(121) }), ownerId);
+    expect(refused.ok).toBe(false);
+    if (!refused.ok) expect(refused.errors.businessName).toMatch(/at most 120/);
   });
 
   it("keeps the last good settings when a later save is refused", async () => {

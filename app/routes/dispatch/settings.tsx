@@ -43,6 +43,7 @@ function usHint(settings: BusinessSettings, key: string, value: string): string 
 
 type Section = { title: string; fields: (keyof BusinessSettings | "taxRatePercent")[] };
 const SECTIONS: Section[] = [
+  { title: "Business", fields: ["businessName", "businessAddress"] },
   { title: "Units and time", fields: ["unitSystem", "timeZone"] },
   { title: "Product and dose", fields: ["productName", "productRegistrationNumber", "labelMaximumGramsPerBroodBox", "doseGramsPerBroodBox"] },
   { title: "Treatment course", fields: ["roundsWithBrood", "roundIntervalDays"] },
@@ -82,7 +83,7 @@ export default function Settings({ loaderData, actionData }: Route.ComponentProp
           options={[{ value: "metric", label: "Metric (g, °C, km)" }, { value: "us", label: "US (oz, °F, miles)" }]} />
       );
     }
-    const isText = key === "productName" || key === "productRegistrationNumber" || key === "timeZone";
+    const isText = key === "productName" || key === "productRegistrationNumber" || key === "timeZone" || key === "businessName" || key === "businessAddress";
     const isMoney = key === "pricePerColonyCents" || key === "tripFeeCents" || key === "minimumPerVisitCents";
     return (
       <SettingField

@@ -1,6 +1,7 @@
 import { recordsFileName } from "~/domain/application-records-csv";
 import { applicationRecords, readRecordQuery, recordFilterNames } from "~/models/application-records.server";
 import { senderName } from "~/models/invoice-documents.server";
+import { businessIdentity, loadBusinessSettings } from "~/models/settings.server";
 import { renderApplicationRecordsPdf } from "~/services/application-records-pdf.server";
 import { businessToday } from "~/services/clock.server";
 import { db } from "~/services/db.server";
@@ -21,7 +22,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   }
   const records = await applicationRecords(db, query.filters);
   const pdf = await renderApplicationRecordsPdf({
-    businessName: senderName(mailFrom()),
+    businessName: businessIdentity(await loadBusinessSettings(db), senderName(mailFrom())).name,
     period: { from: query.filters.from, to: query.filters.to },
     filterNames: recordFilterNames(query.filters, query.options),
     productName: records.productName,

@@ -12,7 +12,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
   const invoice = invoiceId ? await customerInvoice(db, user.customerId, invoiceId) : null;
   if (!invoice) throw data("There is no such invoice in your account.", { status: 404 });
   if (invoice.payments.length === 0) throw data("There is no payment on this invoice yet, so there is no receipt.", { status: 404 });
-  const pdf = await renderReceiptPdf(invoice);
+  const pdf = await renderReceiptPdf(invoice, { businessAddressLines: invoice.businessAddressLines });
   return new Response(new Uint8Array(pdf), {
     headers: {
       "Content-Type": "application/pdf",

@@ -1,7 +1,7 @@
 import { data } from "react-router";
 import { senderName } from "~/models/invoice-documents.server";
 import { seasonReportForCustomer, seasonYearFromUrl } from "~/models/season-report.server";
-import { loadBusinessSettings } from "~/models/settings.server";
+import { businessIdentity, loadBusinessSettings } from "~/models/settings.server";
 import { dateInZone } from "~/services/clock.server";
 import { db } from "~/services/db.server";
 import { mailFrom } from "~/services/mail.server";
@@ -17,7 +17,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   const year = seasonYearFromUrl(new URL(request.url), Number(today.slice(0, 4)));
   if (year === null) throw data("Choose a year between 2000 and 2100, for example 2026.", { status: 400 });
   const report = await seasonReportForCustomer(db, { customerId: user.customerId, year, today, settings });
-  const pdf = await renderSeasonReportPdf(report, { businessName: senderName(mailFrom()) });
+  const pdf = await renderSeasonReportPdf(report, { businessName: businessIdentity(settings, senderName(mailFrom())).name });
   return new Response(new Uint8Array(pdf), {
     headers: {
       "Content-Type": "application/pdf",
