@@ -1,5 +1,6 @@
 import { DEMO, DEMO_PASSWORD, expect, queryTestDatabase, signIn, test } from "./fixtures";
 
+// Runs after the crew journeys (file order): it finishes a later stop of the same run.
 // Money from end to end: the crew finishes a visit; the worker e-mails the invoice with its
 // PDF to the SMTP sink; the customer follows the e-mail's pay link, pays on the fake Stripe
 // checkout page and comes back; the signed webhook marks the invoice paid in the portal and
