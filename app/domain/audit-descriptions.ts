@@ -29,7 +29,7 @@ export const AUDIT_AREA_LABELS: Record<AuditArea, string> = {
  * between bookings and tallies), then prefixes. "other" is whatever no rule claims.
  */
 export const AUDIT_AREA_RULES: Record<Exclude<AuditArea, "other">, { actions: readonly string[]; prefixes: readonly string[] }> = {
-  bookings: { actions: ["visit.reschedule", "visit.cancel", "visit.next_round"], prefixes: ["booking.", "course."] },
+  bookings: { actions: ["visit.reschedule", "visit.cancel", "visit.next_round", "visit.time_of_day"], prefixes: ["booking.", "course."] },
   runs: { actions: [], prefixes: ["service_day.", "run.", "stop."] },
   tallies: { actions: ["visit.supers_off", "visit.finish"], prefixes: ["tally."] },
   invoices: { actions: [], prefixes: ["invoice."] },
@@ -249,6 +249,13 @@ const SENTENCES: Record<string, Describe> = {
     const from = formatAuditDay(b.serviceDate);
     const to = formatAuditDay(a.serviceDate);
     return withReason(`Moved the visit${from ? ` from ${from}` : ""}${to ? ` to ${to}` : ""}`, a.reason);
+  },
+  "visit.time_of_day": (_f, b, a) => {
+    const names: Record<string, string> = { any: "any time", morning: "the morning", afternoon: "the afternoon" };
+    const to = typeof a.timePreference === "string" ? (names[a.timePreference] ?? a.timePreference) : null;
+    const from = typeof b.timePreference === "string" ? (names[b.timePreference] ?? b.timePreference) : null;
+    const sentence = `Changed the visit's time of day${from ? ` from ${from}` : ""}${to ? ` to ${to}` : ""}`;
+    return a.takenOffRun === true ? `${sentence}, and took it off its run` : sentence;
   },
   "visit.cancel": (_f, b, a) => {
     const day = formatAuditDay(b.serviceDate);

@@ -16,4 +16,9 @@ export const cancelSchema = z.object({
   reason: z.string({ error: "Say why the visit is cancelled." }).trim().min(3, "Say why the visit is cancelled; the customer is told.").max(500, "Keep the reason under 500 characters."),
 });
 
-export const visitChangeSchema = z.discriminatedUnion("intent", [rescheduleSchema, cancelSchema], { error: "Choose move or cancel." });
+export const timeOfDaySchema = z.object({
+  intent: z.literal("time"),
+  timePreference: z.enum(["any", "morning", "afternoon"], { error: "Choose any time, morning or afternoon." }),
+});
+
+export const visitChangeSchema = z.discriminatedUnion("intent", [rescheduleSchema, cancelSchema, timeOfDaySchema], { error: "Choose move, cancel or a time of day." });

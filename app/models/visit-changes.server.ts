@@ -7,12 +7,13 @@ import { requestEmailDelivery } from "~/services/jobs.server";
 import { lockDayRoom } from "./capacity.server";
 import { queueEmail } from "./emails.server";
 import { loadBusinessSettings } from "./settings.server";
+import type { TimePreference } from "./tables";
 
 /** A change the dispatcher asked for that cannot be made, with the field it concerns. */
 export class VisitChangeRefused extends Error {
   constructor(
     message: string,
-    readonly field: "toDate" | "reason" | "form",
+    readonly field: "toDate" | "reason" | "timePreference" | "form",
   ) {
     super(message);
   }
@@ -33,6 +34,7 @@ async function lockOpenVisit(trx: Knex.Transaction, visitId: number) {
       "visits.service_date",
       "visits.status",
       "visits.colonies_expected",
+      "visits.time_preference",
       "yards.name as yard_name",
       "customers.id as customer_id",
       "customers.name as customer_name",
@@ -141,4 +143,33 @@ export async function cancelVisit(db: Knex, input: { visitId: number; reason: st
     });
   });
   if (emailId !== null) await requestEmailDelivery([emailId]);
+}
+
+/**
+ * Changes the time of day a visit asks for (e.g. the customer phoned). A visit already on a
+ * run is taken off it, since its window changed: the day is planned again. A first round's
+ * booking follows. No e-mail: the change comes from the customer.
+ */
+export async function changeVisitTimeOfDay(db: Knex, input: { visitId: number; timePreference: TimePreference; actorUserId: number | string }): Promise<{ takenOffRun: boolean }> {
+  return db.transaction(async (trx) => {
+    const visit = await lockOpenVisit(trx, input.visitId);
+    if (visit.time_preference === input.timePreference) throw new VisitChangeRefused("The visit already asks for that time of day.", "timePreference");
+    const onRun = await trx("stops").where({ visit_id: visit.id }).first("id");
+    await takeOffRun(trx, visit.id);
+    await trx("visits").where({ id: visit.id }).update({ time_preference: input.timePreference, updated_at: trx.fn.now() });
+    if (visit.round_number === 1) {
+      await trx("bookings")
+        .whereIn("id", trx("courses").where({ id: visit.course_id }).select("booking_id"))
+        .update({ time_preference: input.timePreference, updated_at: trx.fn.now() });
+    }
+    await trx("audit_log").insert({
+      actor_user_id: Number(input.actorUserId),
+      action: "visit.time_of_day",
+      entity_type: "visit",
+      entity_id: String(visit.id),
+      before: JSON.stringify({ timePreference: visit.time_preference }),
+      after: JSON.stringify({ timePreference: input.timePreference, takenOffRun: Boolean(onRun) }),
+    });
+    return { takenOffRun: Boolean(onRun) };
+  });
 }

@@ -1,8 +1,7 @@
-import PDFDocument from "pdfkit";
 import { formatClock } from "~/components/format";
 import { RECORD_KEEPING_NOTICE, gramsText, type ApplicationRecordLine } from "~/domain/application-records-csv";
 import { LABEL_DEFERENCE_NOTICE } from "~/domain/safety";
-import { PDF_COLOURS, workSansFonts } from "./invoice-pdf.server";
+import { PDF_COLOURS, startPdf } from "./pdf-document.server";
 
 // The application records of a period as a PDF (pdfkit, Work Sans embedded as on the
 // invoices): a title block with the business, the period, the filters, the product and its
@@ -67,24 +66,13 @@ const COLUMNS: Column[] = [
 /** Renders the records of a period as a PDF. */
 export function renderApplicationRecordsPdf(input: ApplicationRecordsPdfInput): Promise<Buffer> {
   const title = `Application records ${input.period.from} to ${input.period.to}`;
-  const doc = new PDFDocument({
+  const { doc, bytes: done } = startPdf({
     size: "LETTER",
     layout: "landscape",
     margins: { top: 36, bottom: 48, left: 36, right: 36 },
     bufferPages: true,
     info: { Title: title, Author: input.businessName, Subject: `Oxalic acid vapor applications, ${input.period.from} to ${input.period.to}` },
   });
-  const chunks: Buffer[] = [];
-  const done = new Promise<Buffer>((resolve, reject) => {
-    doc.on("data", (chunk: Buffer) => chunks.push(chunk));
-    doc.on("end", () => resolve(Buffer.concat(chunks)));
-    doc.on("error", reject);
-  });
-
-  const f = workSansFonts();
-  doc.registerFont("regular", f.regular);
-  doc.registerFont("semibold", f.semibold);
-  doc.registerFont("bold", f.bold);
 
   const left = doc.page.margins.left;
   const right = doc.page.width - doc.page.margins.right;

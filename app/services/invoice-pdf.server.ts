@@ -1,12 +1,9 @@
-import { readFileSync } from "node:fs";
-import { createRequire } from "node:module";
-import PDFDocument from "pdfkit";
 import { formatServiceDate } from "~/components/format";
 import { formatDollars } from "~/domain/billing";
 import type { InvoiceDocument } from "~/models/invoice-documents.server";
+import { PDF_COLOURS, startPdf } from "./pdf-document.server";
 
-// The invoice as a PDF (pdfkit), in Work Sans embedded from @fontsource/work-sans (the WOFF
-// files in node_modules: no network). One page for an ordinary invoice; long line lists
+// The invoice as a PDF (pdfkit, Work Sans embedded: app/services/pdf-document.server.ts). One page for an ordinary invoice; long line lists
 // continue on further pages. Amounts come from integer cents (formatDollars, no floats).
 
 export type InvoicePdfOptions = {
@@ -16,36 +13,7 @@ export type InvoicePdfOptions = {
   size?: "LETTER" | "A4";
 };
 
-const require = createRequire(import.meta.url);
-const FONT_FILES = {
-  regular: "@fontsource/work-sans/files/work-sans-latin-400-normal.woff",
-  semibold: "@fontsource/work-sans/files/work-sans-latin-600-normal.woff",
-  bold: "@fontsource/work-sans/files/work-sans-latin-700-normal.woff",
-} as const;
-type FontName = keyof typeof FONT_FILES;
-
-let fontCache: Record<FontName, Buffer> | undefined;
-function fonts(): Record<FontName, Buffer> {
-  fontCache ??= {
-    regular: readFileSync(require.resolve(FONT_FILES.regular)),
-    semibold: readFileSync(require.resolve(FONT_FILES.semibold)),
-    bold: readFileSync(require.resolve(FONT_FILES.bold)),
-  };
-  return fontCache;
-}
-
-/** Varroute's palette (app/app.css), as in the e-mails. */
-const INK = "#17201c";
-const INK_SOFT = "#3d4a44";
-const LINE = "#d5d2c7";
-const PINE = "#175a43";
-const PINE_50 = "#eaf3ef";
-
-/** For other documents in the same look (e.g. the receipt): Varroute's PDF palette and its Work Sans files. */
-export const PDF_COLOURS = { ink: INK, inkSoft: INK_SOFT, line: LINE, pine: PINE, pine50: PINE_50 } as const;
-export function workSansFonts(): Record<FontName, Buffer> {
-  return fonts();
-}
+const { ink: INK, inkSoft: INK_SOFT, line: LINE, pine: PINE, pine50: PINE_50 } = PDF_COLOURS;
 
 const STATUS_STAMP: Partial<Record<InvoiceDocument["status"], string>> = { paid: "PAID", void: "VOID", refunded: "REFUNDED" };
 
@@ -55,22 +23,10 @@ function quantityText(quantity: number): string {
 
 /** Renders the invoice PDF. */
 export function renderInvoicePdf(invoice: InvoiceDocument, options: InvoicePdfOptions = {}): Promise<Buffer> {
-  const doc = new PDFDocument({
+  const { doc, bytes: done } = startPdf({
     size: options.size ?? "LETTER",
-    margins: { top: 54, bottom: 54, left: 54, right: 54 },
     info: { Title: `Invoice ${invoice.number}`, Author: invoice.businessName, Subject: `Invoice ${invoice.number} for ${invoice.customer.name}` },
   });
-  const chunks: Buffer[] = [];
-  const done = new Promise<Buffer>((resolve, reject) => {
-    doc.on("data", (chunk: Buffer) => chunks.push(chunk));
-    doc.on("end", () => resolve(Buffer.concat(chunks)));
-    doc.on("error", reject);
-  });
-
-  const f = fonts();
-  doc.registerFont("regular", f.regular);
-  doc.registerFont("semibold", f.semibold);
-  doc.registerFont("bold", f.bold);
 
   const left = doc.page.margins.left;
   const right = doc.page.width - doc.page.margins.right;

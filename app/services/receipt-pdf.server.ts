@@ -1,8 +1,7 @@
-import PDFDocument from "pdfkit";
 import { formatInstant, formatServiceDate } from "~/components/format";
 import { formatDollars } from "~/domain/billing";
 import type { PortalInvoice } from "~/models/portal-invoices.server";
-import { PDF_COLOURS, workSansFonts } from "./invoice-pdf.server";
+import { PDF_COLOURS, startPdf } from "./pdf-document.server";
 
 // A receipt for the payments on one invoice (pdfkit), in the invoice PDF's look: Work Sans
 // embedded from @fontsource/work-sans, Varroute's palette. It lists every payment (when, how,
@@ -32,22 +31,10 @@ function placeName(timeZone: string): string {
 /** Renders the receipt PDF for an invoice with at least one payment. */
 export function renderReceiptPdf(invoice: PortalInvoice, options: ReceiptPdfOptions = {}): Promise<Buffer> {
   const when = (instant: Date) => plain(formatInstant(instant, invoice.timeZone));
-  const doc = new PDFDocument({
+  const { doc, bytes: done } = startPdf({
     size: options.size ?? "LETTER",
-    margins: { top: 54, bottom: 54, left: 54, right: 54 },
     info: { Title: `Receipt for invoice ${invoice.number}`, Author: invoice.businessName, Subject: `Payments on invoice ${invoice.number} from ${invoice.customer.name}` },
   });
-  const chunks: Buffer[] = [];
-  const done = new Promise<Buffer>((resolve, reject) => {
-    doc.on("data", (chunk: Buffer) => chunks.push(chunk));
-    doc.on("end", () => resolve(Buffer.concat(chunks)));
-    doc.on("error", reject);
-  });
-
-  const f = workSansFonts();
-  doc.registerFont("regular", f.regular);
-  doc.registerFont("semibold", f.semibold);
-  doc.registerFont("bold", f.bold);
 
   const left = doc.page.margins.left;
   const right = doc.page.width - doc.page.margins.right;

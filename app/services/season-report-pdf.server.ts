@@ -1,8 +1,7 @@
-import PDFDocument from "pdfkit";
 import { formatServiceDate } from "~/components/format";
 import { LABEL_DEFERENCE_NOTICE, SAFETY_CAUTIONS } from "~/domain/safety";
 import type { SeasonReport } from "~/models/season-report.server";
-import { PDF_COLOURS, workSansFonts } from "./invoice-pdf.server";
+import { PDF_COLOURS, startPdf } from "./pdf-document.server";
 
 // The customer's season report as a PDF (pdfkit), the same content as /portal/season:
 // per yard the rounds done, colonies treated and mite counts, what comes next, what the
@@ -20,22 +19,10 @@ function plural(count: number, one: string, many: string): string {
 
 /** Renders the season report PDF. */
 export function renderSeasonReportPdf(report: SeasonReport, options: SeasonReportPdfOptions): Promise<Buffer> {
-  const doc = new PDFDocument({
+  const { doc, bytes: done } = startPdf({
     size: options.size ?? "LETTER",
-    margins: { top: 54, bottom: 54, left: 54, right: 54 },
     info: { Title: `Season report ${report.year}`, Author: options.businessName, Subject: `Varroa treatment season ${report.year} for ${report.customerName}` },
   });
-  const chunks: Buffer[] = [];
-  const done = new Promise<Buffer>((resolve, reject) => {
-    doc.on("data", (chunk: Buffer) => chunks.push(chunk));
-    doc.on("end", () => resolve(Buffer.concat(chunks)));
-    doc.on("error", reject);
-  });
-
-  const f = workSansFonts();
-  doc.registerFont("regular", f.regular);
-  doc.registerFont("semibold", f.semibold);
-  doc.registerFont("bold", f.bold);
 
   const left = doc.page.margins.left;
   const right = doc.page.width - doc.page.margins.right;

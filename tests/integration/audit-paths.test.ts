@@ -10,7 +10,7 @@ import { handleStripeWebhook, recordOfficePayment, refundPayment, startCardPayme
 import { loadBusinessSettings, updateBusinessSettingsFromForm } from "~/models/settings.server";
 import { confirmRunSafetyCheck, confirmSupersOff, finishVisit, recordTally } from "~/models/tallies.server";
 import type { AuditLogRow } from "~/models/tables";
-import { cancelVisit, rescheduleVisit } from "~/models/visit-changes.server";
+import { cancelVisit, changeVisitTimeOfDay, rescheduleVisit } from "~/models/visit-changes.server";
 import { dateInZone } from "~/services/clock.server";
 import { db } from "~/services/db.server";
 import { stopJobs } from "~/services/jobs.server";
@@ -123,6 +123,17 @@ describe("bookings", () => {
     expect(row).toMatchObject({ entity_type: "visit", entity_id: String(v.visitId), actor_user_id: dispatcher });
     expect(row.before).toEqual({ serviceDate: day });
     expect(row.after).toEqual({ serviceDate: to, reason: "Rain forecast" });
+  });
+
+  it("changing a visit's time of day: visit.time_of_day by the dispatcher with the old and new time", async () => {
+    await aShopCrew("Crew A");
+    const v = await aBookedVisit();
+    const since = await mark();
+    await changeVisitTimeOfDay(db, { visitId: v.visitId, timePreference: "morning", actorUserId: dispatcher });
+    const row = await entry(since, "visit.time_of_day");
+    expect(row).toMatchObject({ entity_type: "visit", entity_id: String(v.visitId), actor_user_id: dispatcher });
+    expect(row.before).toEqual({ timePreference: "any" });
+    expect(row.after).toEqual({ timePreference: "morning", takenOffRun: false });
   });
 
   it("cancelling a visit: visit.cancel by the dispatcher with the reason", async () => {

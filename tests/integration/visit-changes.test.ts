@@ -2,7 +2,7 @@ import { afterAll, beforeEach, describe, expect, it } from "vitest";
 import { addCalendarDays } from "~/domain/courses";
 import { defaultBusinessSettings } from "~/domain/settings";
 import { bookYards } from "~/models/bookings.server";
-import { cancelVisit, rescheduleVisit, VisitChangeRefused } from "~/models/visit-changes.server";
+import { cancelVisit, changeVisitTimeOfDay, rescheduleVisit, VisitChangeRefused } from "~/models/visit-changes.server";
 import { dateInZone } from "~/services/clock.server";
 import { db } from "~/services/db.server";
 import { resetDatabase } from "./reset-database";
@@ -54,6 +54,28 @@ describe("moving and cancelling visits", () => {
     await rescheduleVisit(db, { visitId, toDate: addCalendarDays(day, 1), reason: null, actorUserId: actor });
     expect(await db("stops").where({ visit_id: visitId })).toHaveLength(0);
     expect((await db("runs").where({ id: run.id }).first())?.version).toBe(2);
+  });
+
+  it("changes the time of day of a visit and its booking, takes it off its run, and audits it; the same time again is refused", async () => {
+    const [crew] = await db("crews").select("id");
+    const [run] = await db("runs").insert({ crew_id: crew.id, service_date: day }).returning("id");
+    const at = new Date(`${day}T13:00:00Z`);
+    await db("stops").insert({ run_id: run.id, visit_id: visitId, position: 0, arrive_at: at, start_at: at, leave_at: at });
+    expect(await changeVisitTimeOfDay(db, { visitId, timePreference: "afternoon", actorUserId: actor })).toEqual({ takenOffRun: true });
+    expect((await db("visits").where({ id: visitId }).first())?.time_preference).toBe("afternoon");
+    expect((await db("bookings").first())?.time_preference).toBe("afternoon");
+    expect(await db("stops").where({ visit_id: visitId })).toHaveLength(0);
+    expect((await db("runs").where({ id: run.id }).first())?.version).toBe(2);
+    const audit = await db("audit_log").where({ action: "visit.time_of_day" });
+    expect(audit).toHaveLength(1);
+    expect(audit[0]).toMatchObject({ actor_user_id: actor, entity_id: String(visitId), before: { timePreference: "any" }, after: { timePreference: "afternoon", takenOffRun: true } });
+    // No e-mail: the change came from the customer.
+    expect(await db("email_log").whereNot({ kind: "booking_confirmation" })).toHaveLength(0);
+
+    await expect(changeVisitTimeOfDay(db, { visitId, timePreference: "afternoon", actorUserId: actor })).rejects.toMatchObject({ field: "timePreference" });
+    expect(await db("audit_log").where({ action: "visit.time_of_day" })).toHaveLength(1);
+    // Off a run, it stays off: nothing to take off.
+    expect(await changeVisitTimeOfDay(db, { visitId, timePreference: "morning", actorUserId: actor })).toEqual({ takenOffRun: false });
   });
 
   it("cancels a first-round visit with its booking and course, and needs a reason", async () => {

@@ -71,6 +71,12 @@ describe("describeAuditEntry", () => {
       "Cancelled the visit on Tue, Nov 10, 2026: Hives sold",
     );
     expect(describeAuditEntry(entry("visit.next_round", { roundNumber: 2, serviceDate: "2026-11-17", status: "scheduled" }))).toBe("Booked round 2 for Tue, Nov 17, 2026");
+    expect(describeAuditEntry(entry("visit.time_of_day", { timePreference: "morning", takenOffRun: true }, { before: { timePreference: "any" } }))).toBe(
+      "Changed the visit's time of day from any time to the morning, and took it off its run",
+    );
+    expect(describeAuditEntry(entry("visit.time_of_day", { timePreference: "afternoon", takenOffRun: false }, { before: { timePreference: "morning" } }))).toBe(
+      "Changed the visit's time of day from the morning to the afternoon",
+    );
   });
 
   it("words planning, moving, locking and publishing with positions counted from 1", () => {
@@ -119,6 +125,7 @@ describe("areas, actors and records", () => {
       "visit.reschedule": "bookings",
       "visit.cancel": "bookings",
       "visit.next_round": "bookings",
+      "visit.time_of_day": "bookings",
       "course.complete": "bookings",
       "service_day.plan": "runs",
       "run.plan": "runs",

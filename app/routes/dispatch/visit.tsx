@@ -6,7 +6,7 @@ import { Card, PageHeader } from "~/components/ui/card";
 import { FormMessage } from "~/components/ui/field";
 import { fieldErrors, formValues, type FieldErrors } from "~/forms/field-errors";
 import { visitChangeSchema } from "~/forms/visit-change";
-import { cancelVisit, rescheduleVisit, VisitChangeRefused } from "~/models/visit-changes.server";
+import { cancelVisit, changeVisitTimeOfDay, rescheduleVisit, VisitChangeRefused } from "~/models/visit-changes.server";
 import { getVisitDetail } from "~/models/visits.server";
 import { db } from "~/services/db.server";
 import { AREA_ROLES, requireRole } from "~/services/permissions.server";
@@ -32,9 +32,12 @@ export async function action({ request, params }: Route.ActionArgs) {
   const values = formValues(await request.formData());
   const parsed = visitChangeSchema.safeParse(values);
   if (!parsed.success) return data({ ok: false as const, errors: fieldErrors(parsed.error), intent: String(values.intent ?? "") }, { status: 400 });
+  let takenOffRun = false;
   try {
     if (parsed.data.intent === "reschedule") {
       await rescheduleVisit(db, { visitId: visit.id, toDate: parsed.data.toDate, reason: parsed.data.reason, actorUserId: user.id });
+    } else if (parsed.data.intent === "time") {
+      ({ takenOffRun } = await changeVisitTimeOfDay(db, { visitId: visit.id, timePreference: parsed.data.timePreference, actorUserId: user.id }));
     } else {
       await cancelVisit(db, { visitId: visit.id, reason: parsed.data.reason, actorUserId: user.id });
     }
@@ -44,7 +47,7 @@ export async function action({ request, params }: Route.ActionArgs) {
     }
     throw error;
   }
-  return { ok: true as const, errors: {} as FieldErrors, intent: parsed.data.intent };
+  return { ok: true as const, errors: {} as FieldErrors, intent: parsed.data.intent, takenOffRun };
 }
 
 export default function VisitPage({ loaderData, actionData }: Route.ComponentProps) {
@@ -63,7 +66,16 @@ export default function VisitPage({ loaderData, actionData }: Route.ComponentPro
       />
       {actionData?.ok ? (
         <div className="mb-4">
-          <FormMessage tone="info" message={actionData.intent === "cancel" ? "Visit cancelled; the customer is being e-mailed." : "Visit moved; the customer is being e-mailed."} />
+          <FormMessage
+            tone="info"
+            message={
+              actionData.intent === "cancel"
+                ? "Visit cancelled; the customer is being e-mailed."
+                : actionData.intent === "time"
+                  ? `Time of day changed.${actionData.takenOffRun ? " The visit was taken off its run: plan the day again." : ""}`
+                  : "Visit moved; the customer is being e-mailed."
+            }
+          />
         </div>
       ) : null}
       <div className="grid gap-6 lg:grid-cols-3">
@@ -135,6 +147,43 @@ export default function VisitPage({ loaderData, actionData }: Route.ComponentPro
                   <div>
                     <Button type="submit" disabled={busy}>
                       Move the visit
+                    </Button>
+                  </div>
+                </Form>
+              </Card>
+              <Card title="Change the time of day">
+                <Form method="post" noValidate className="flex flex-col gap-3">
+                  <input type="hidden" name="intent" value="time" />
+                  <div className="flex flex-col gap-1">
+                    <label htmlFor="timePreference" className="font-semibold">
+                      Time of day
+                    </label>
+                    <select
+                      id="timePreference"
+                      name="timePreference"
+                      defaultValue={visit.timePreference}
+                      key={visit.timePreference}
+                      aria-invalid={errors.timePreference ? true : undefined}
+                      aria-describedby={errors.timePreference ? "time-error" : "time-hint"}
+                      className="min-h-11 max-w-xs rounded-lg border-2 border-line bg-card px-3"
+                    >
+                      <option value="any">{timePreferenceName("any")}</option>
+                      <option value="morning">{timePreferenceName("morning")}</option>
+                      <option value="afternoon">{timePreferenceName("afternoon")}</option>
+                    </select>
+                    {errors.timePreference ? (
+                      <p id="time-error" className="font-semibold text-alarm-700">
+                        {errors.timePreference}
+                      </p>
+                    ) : (
+                      <p id="time-hint" className="text-sm text-ink-soft">
+                        A visit already on a run is taken off it, so the day is planned again.
+                      </p>
+                    )}
+                  </div>
+                  <div>
+                    <Button type="submit" variant="secondary" disabled={busy}>
+                      Change the time of day
                     </Button>
                   </div>
                 </Form>

@@ -93,28 +93,30 @@ export default function SeasonReportPage({ loaderData }: Route.ComponentProps) {
                   caption={`Treatment rounds at ${yard.name} in ${report.year}`}
                   head={
                     <>
-                      <Th>Date</Th>
                       <Th>Round</Th>
-                      <Th align="right">Treated</Th>
-                      <Th align="right">Skipped</Th>
-                      <Th>Mites per 100 bees</Th>
-                      <Th>Change since the last count</Th>
+                      <Th>Colonies</Th>
+                      <Th>Mites per 100 bees, and the change since the last count</Th>
                     </>
                   }
                 >
                   {yard.rounds.map((round) => (
                     <tr key={round.visitId}>
-                      <Td className="whitespace-nowrap">{formatServiceDate(round.serviceDate, false)}</Td>
-                      <Td className="whitespace-nowrap">
-                        {round.roundNumber} of {round.roundsPlanned}
+                      {/* Three columns, so a phone shows the mite counts without scrolling sideways. */}
+                      <Td>
+                        <span className="block font-semibold whitespace-nowrap">{formatServiceDate(round.serviceDate, false)}</span>
+                        <span className="block text-sm whitespace-nowrap">
+                          round {round.roundNumber} of {round.roundsPlanned}
+                        </span>
                       </Td>
-                      <Td align="right">{round.coloniesTreated}</Td>
-                      <Td align="right">{round.coloniesSkipped}</Td>
+                      <Td>
+                        <span className="block whitespace-nowrap">{round.coloniesTreated} treated</span>
+                        {round.coloniesSkipped > 0 ? <span className="block text-sm whitespace-nowrap">{round.coloniesSkipped} skipped</span> : null}
+                      </Td>
                       <Td>
                         {round.text.mites}
                         {round.text.verdict ? <span className={`block text-sm ${LEVEL_STYLE[round.level ?? "below"]}`}>{round.text.verdict}</span> : null}
+                        {round.text.change ? <span className="mt-1 block text-sm">{round.text.change}</span> : null}
                       </Td>
-                      <Td>{round.text.change}</Td>
                     </tr>
                   ))}
                 </Table>
