@@ -94,8 +94,8 @@ export default function SeasonReportPage({ loaderData }: Route.ComponentProps) {
                   head={
                     <>
                       <Th>Round</Th>
-                      <Th>Colonies</Th>
-                      <Th>Mites per 100 bees, and the change since the last count</Th>
+                      <Th className="whitespace-normal">Colonies</Th>
+                      <Th className="whitespace-normal">Mites per 100 bees</Th>
                     </>
                   }
                 >
@@ -103,14 +103,14 @@ export default function SeasonReportPage({ loaderData }: Route.ComponentProps) {
                     <tr key={round.visitId}>
                       {/* Three columns, so a phone shows the mite counts without scrolling sideways. */}
                       <Td>
-                        <span className="block font-semibold whitespace-nowrap">{formatServiceDate(round.serviceDate, false)}</span>
-                        <span className="block text-sm whitespace-nowrap">
+                        <span className="block font-semibold">{formatServiceDate(round.serviceDate, false)}</span>
+                        <span className="block text-sm">
                           round {round.roundNumber} of {round.roundsPlanned}
                         </span>
                       </Td>
                       <Td>
-                        <span className="block whitespace-nowrap">{round.coloniesTreated} treated</span>
-                        {round.coloniesSkipped > 0 ? <span className="block text-sm whitespace-nowrap">{round.coloniesSkipped} skipped</span> : null}
+                        <span className="block">{round.coloniesTreated} treated</span>
+                        {round.coloniesSkipped > 0 ? <span className="block text-sm">{round.coloniesSkipped} skipped</span> : null}
                       </Td>
                       <Td>
                         {round.text.mites}
