@@ -36,6 +36,7 @@ export default [
     layout("routes/dispatch/layout.tsx", [
       index("routes/dispatch/home.tsx"),
       route("yards/:yardId", "routes/dispatch/yard.tsx"),
+      route("yards/:yardId/edit", "routes/dispatch/yard-edit.tsx"),
       route("settings", "routes/dispatch/settings.tsx"),
       route("calendar", "routes/dispatch/calendar.tsx"),
       route("map", "routes/dispatch/map.tsx"),

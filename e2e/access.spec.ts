@@ -48,6 +48,7 @@ const RULES: Record<string, Rule> = {
   // The visit in the test is the demo customer's, but not finished: its report does not exist yet.
   "routes/portal/visit-report.tsx": { outcome: (who) => (who === "customer" ? "not-found" : staffOnly("customer")(who)) },
   "routes/dispatch/layout.tsx": { outcome: staffOnly("dispatcher", "owner") },
+  "routes/dispatch/yard-edit.tsx": { outcome: staffOnly("dispatcher", "owner") },
   "routes/dispatch/home.tsx": { outcome: staffOnly("dispatcher", "owner") },
   "routes/dispatch/yard.tsx": { outcome: staffOnly("dispatcher", "owner") },
   "routes/dispatch/settings.tsx": { outcome: staffOnly("dispatcher", "owner") },

@@ -44,7 +44,7 @@ for (const role of Object.keys(PAGES) as DemoRole[]) {
       role === "customer"
         ? [`/portal/yards/${yard.id}`, `/portal/yards/${yard.id}/edit`, `/portal/invoices/${ownInvoice.id}`]
         : role === "dispatcher"
-          ? [`/dispatch/yards/${yard.id}`, `/dispatch/visits/${visit.id}`]
+          ? [`/dispatch/yards/${yard.id}`, `/dispatch/yards/${yard.id}/edit`, `/dispatch/visits/${visit.id}`]
           : role === "office"
             ? [`/office/invoices/${invoice.id}`]
             : [];

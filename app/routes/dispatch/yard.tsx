@@ -1,4 +1,6 @@
 import { Link } from "react-router";
+import { buttonClass } from "~/components/ui/button";
+import { FormMessage } from "~/components/ui/field";
 import { YardDetails } from "~/components/yard-details";
 import { yardPageData } from "~/models/yard-plan.server";
 import { getYard } from "~/models/yards.server";
@@ -12,15 +14,25 @@ export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.yard.na
 export async function loader({ request, params }: Route.LoaderArgs) {
   await requireRole(request, AREA_ROLES.dispatch);
   const yard = await getYard(db, params.yardId, await businessToday(db));
-  return yardPageData(db, yard);
+  return { ...(await yardPageData(db, yard)), saved: new URL(request.url).searchParams.has("saved") };
 }
 
 export default function DispatchYard({ loaderData }: Route.ComponentProps) {
   return (
     <>
-      <Link to="/dispatch/yards" className="mb-3 inline-flex min-h-11 items-center font-semibold text-pine-800 underline">
-        ← Yards
-      </Link>
+      <div className="mb-3 flex flex-wrap items-center justify-between gap-3">
+        <Link to="/dispatch/yards" className="inline-flex min-h-11 items-center font-semibold text-pine-800 underline">
+          ← Yards
+        </Link>
+        <Link to={`/dispatch/yards/${loaderData.yard.id}/edit`} className={buttonClass("secondary")}>
+          Edit this yard
+        </Link>
+      </div>
+      {loaderData.saved ? (
+        <div className="mb-4">
+          <FormMessage tone="info" message="Yard saved." />
+        </div>
+      ) : null}
       <YardDetails {...loaderData} showCustomer />
     </>
   );

@@ -1,0 +1,65 @@
+import { data, Link, redirect } from "react-router";
+import { SafetyCautions } from "~/components/safety-cautions";
+import { PageHeader } from "~/components/ui/card";
+import { YardForm, type YardFormValues } from "~/components/yard-form";
+import { fieldErrors, formValues } from "~/forms/field-errors";
+import { yardSchema } from "~/forms/yard";
+import { updateYard } from "~/models/yard-edit.server";
+import { getYard } from "~/models/yards.server";
+import { businessToday } from "~/services/clock.server";
+import { db } from "~/services/db.server";
+import { mapConfig } from "~/services/env.server";
+import { AREA_ROLES, requireRole } from "~/services/permissions.server";
+import type { Route } from "./+types/yard-edit";
+
+// The dispatcher corrects a customer's yard (a phone call: more colonies, a new gate code, a
+// better pin). The same form and rules as the customer's own page; audited as yard.update with
+// the dispatcher as the actor. Photos stay the customer's to manage.
+
+export const meta: Route.MetaFunction = ({ data }) => [{ title: `Edit ${data?.yard.name ?? "yard"} · Varroute` }];
+
+export async function loader({ request, params }: Route.LoaderArgs) {
+  await requireRole(request, AREA_ROLES.dispatch);
+  const yard = await getYard(db, params.yardId, await businessToday(db));
+  return { yard, map: mapConfig() };
+}
+
+export async function action({ request, params }: Route.ActionArgs) {
+  const user = await requireRole(request, AREA_ROLES.dispatch);
+  const yard = await getYard(db, params.yardId, await businessToday(db));
+  const values = formValues(await request.formData()) as Record<string, string>;
+  const parsed = yardSchema.safeParse(values);
+  if (!parsed.success) return data({ errors: fieldErrors(parsed.error), values }, { status: 400 });
+  const saved = await updateYard(db, yard.customerId, yard.id, parsed.data, user.id);
+  if (!saved) throw data("This yard is archived and can no longer be changed.", { status: 409 });
+  throw redirect(`/dispatch/yards/${yard.id}?saved=1`);
+}
+
+export default function DispatchYardEdit({ loaderData, actionData }: Route.ComponentProps) {
+  const { yard } = loaderData;
+  const values: YardFormValues = actionData?.values ?? {
+    name: yard.name,
+    lat: String(yard.lat),
+    lng: String(yard.lng),
+    address: yard.address ?? "",
+    colonyCount: String(yard.colonyCount),
+    broodBoxesPerColony: String(yard.broodBoxesPerColony),
+    broodStatus: yard.broodStatus,
+    supersOff: yard.supersOff ? "on" : "",
+    accessNotes: yard.accessNotes,
+  };
+  return (
+    <>
+      <Link to={`/dispatch/yards/${yard.id}`} className="mb-3 inline-flex min-h-11 items-center font-semibold text-pine-800 underline">
+        ← {yard.name}
+      </Link>
+      <PageHeader title={`Edit ${yard.name}`} subtitle="Changes to the colony count also change the visits booked ahead, so the day's room and the crew's doses follow." />
+      <div className="grid gap-6 lg:grid-cols-3">
+        <div className="min-w-0 lg:col-span-2">
+          <YardForm values={values} errors={actionData?.errors ?? {}} submitLabel="Save changes" map={loaderData.map} />
+        </div>
+        <SafetyCautions audience="staff" />
+      </div>
+    </>
+  );
+}
