@@ -29,7 +29,7 @@ test("the owner opens the season dashboard, filters a month, and exports that mo
   await signIn(page, DEMO.owner);
   await expect(page).toHaveURL(/\/dispatch$/);
   await page.getByRole("link", { name: "Office" }).first().click();
-  await page.getByRole("link", { name: "Season dashboard" }).first().click();
+  await page.getByRole("navigation", { name: "Main" }).getByRole("link", { name: "Season", exact: true }).click();
   await expect(page).toHaveURL(/\/office\/dashboard$/);
   await expect(page.getByRole("heading", { level: 1, name: "Season dashboard" })).toBeVisible();
 
@@ -42,7 +42,7 @@ test("the owner opens the season dashboard, filters a month, and exports that mo
   await page.screenshot({ path: "test-results/screenshots/owner-dashboard-1280.png", fullPage: true });
 
   // The same month's application records, downloaded.
-  await page.getByRole("link", { name: "Application records" }).first().click();
+  await page.getByRole("navigation", { name: "Main" }).getByRole("link", { name: "Records", exact: true }).click();
   await expect(page.getByRole("heading", { level: 1, name: "Application records" })).toBeVisible();
   await page.getByLabel("From", { exact: true }).fill(MONTH.from);
   await page.getByLabel("To", { exact: true }).fill(MONTH.to);
@@ -67,7 +67,7 @@ test("the owner opens the season dashboard, filters a month, and exports that mo
   expect(text).toContain("Application records");
 
   // Who changed what: the owner's audit trail, searched.
-  await page.getByRole("link", { name: "Audit trail" }).first().click();
+  await page.getByRole("navigation", { name: "Main" }).getByRole("link", { name: "Audit trail", exact: true }).click();
   await expect(page.getByRole("heading", { level: 1, name: "Audit trail" })).toBeVisible();
   await page.getByRole("searchbox", { name: "Search" }).fill("invoice");
   await page.getByRole("button", { name: "Search" }).click();

@@ -10,11 +10,11 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export default function OfficeLayout({ loaderData }: Route.ComponentProps) {
   const nav = [
-    { to: "/office", label: "Money at a glance", end: true },
+    { to: "/office", label: "Overview", end: true },
     { to: "/office/customers", label: "Customers" },
     { to: "/office/invoices", label: "Invoices" },
-    { to: "/office/records", label: "Application records" },
-    { to: "/office/dashboard", label: "Season dashboard" },
+    { to: "/office/records", label: "Records" },
+    { to: "/office/dashboard", label: "Season" },
     ...(loaderData.user.role === "owner" ? [{ to: "/office/audit", label: "Audit trail" }] : []),
     ...(loaderData.user.role === "owner" ? [{ to: "/dispatch", label: "Dispatch" }] : []),
   ];
