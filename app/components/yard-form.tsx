@@ -7,6 +7,31 @@ import { Field, FormMessage } from "./ui/field";
 
 export type YardFormValues = Partial<Record<"name" | "lat" | "lng" | "address" | "colonyCount" | "broodBoxesPerColony" | "broodStatus" | "supersOff" | "accessNotes", string>>;
 
+/** The form's starting values for a saved yard (the customer's and the dispatcher's edit pages). */
+export function yardFormValues(yard: {
+  name: string;
+  lat: number;
+  lng: number;
+  address: string | null;
+  colonyCount: number;
+  broodBoxesPerColony: number;
+  broodStatus: string;
+  supersOff: boolean;
+  accessNotes: string;
+}): YardFormValues {
+  return {
+    name: yard.name,
+    lat: String(yard.lat),
+    lng: String(yard.lng),
+    address: yard.address ?? "",
+    colonyCount: String(yard.colonyCount),
+    broodBoxesPerColony: String(yard.broodBoxesPerColony),
+    broodStatus: yard.broodStatus,
+    supersOff: yard.supersOff ? "on" : "",
+    accessNotes: yard.accessNotes,
+  };
+}
+
 const BROOD_CHOICES = [
   { value: "brood", label: "Brood present", hint: "Needs several rounds a week or so apart" },
   { value: "broodless", label: "Broodless", hint: "One round treats it" },

@@ -1,7 +1,7 @@
 import { data, Link, redirect } from "react-router";
 import { SafetyCautions } from "~/components/safety-cautions";
 import { PageHeader } from "~/components/ui/card";
-import { YardForm, type YardFormValues } from "~/components/yard-form";
+import { YardForm, yardFormValues, type YardFormValues } from "~/components/yard-form";
 import { fieldErrors, formValues } from "~/forms/field-errors";
 import { yardSchema } from "~/forms/yard";
 import { updateYard } from "~/models/yard-edit.server";
@@ -37,17 +37,7 @@ export async function action({ request, params }: Route.ActionArgs) {
 
 export default function DispatchYardEdit({ loaderData, actionData }: Route.ComponentProps) {
   const { yard } = loaderData;
-  const values: YardFormValues = actionData?.values ?? {
-    name: yard.name,
-    lat: String(yard.lat),
-    lng: String(yard.lng),
-    address: yard.address ?? "",
-    colonyCount: String(yard.colonyCount),
-    broodBoxesPerColony: String(yard.broodBoxesPerColony),
-    broodStatus: yard.broodStatus,
-    supersOff: yard.supersOff ? "on" : "",
-    accessNotes: yard.accessNotes,
-  };
+  const values: YardFormValues = actionData?.values ?? yardFormValues(yard);
   return (
     <>
       <Link to={`/dispatch/yards/${yard.id}`} className="mb-3 inline-flex min-h-11 items-center font-semibold text-pine-800 underline">

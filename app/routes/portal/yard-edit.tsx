@@ -3,7 +3,7 @@ import { data, Form, Link, redirect, useNavigation } from "react-router";
 import { Button, buttonClass } from "~/components/ui/button";
 import { Card, PageHeader } from "~/components/ui/card";
 import { FormMessage } from "~/components/ui/field";
-import { YardForm, type YardFormValues } from "~/components/yard-form";
+import { YardForm, yardFormValues, type YardFormValues } from "~/components/yard-form";
 import { fieldErrors, formValues } from "~/forms/field-errors";
 import { PHOTO_MAX_BYTES, yardSchema } from "~/forms/yard";
 import { deleteYardPhoto, listYardPhotos, PHOTO_TOO_LARGE, PhotoRefused, storeYardPhoto } from "~/models/attachments.server";
@@ -66,20 +66,7 @@ export default function YardEdit({ loaderData, actionData }: Route.ComponentProp
   const { yard, photos, created } = loaderData;
   const busy = useNavigation().state === "submitting";
   const result = actionData as ActionResult | undefined;
-  const values: YardFormValues =
-    result?.intent === "save"
-      ? result.values
-      : {
-          name: yard.name,
-          lat: String(yard.lat),
-          lng: String(yard.lng),
-          address: yard.address ?? "",
-          colonyCount: String(yard.colonyCount),
-          broodBoxesPerColony: String(yard.broodBoxesPerColony),
-          broodStatus: yard.broodStatus,
-          supersOff: yard.supersOff ? "on" : "",
-          accessNotes: yard.accessNotes,
-        };
+  const values: YardFormValues = result?.intent === "save" ? result.values : yardFormValues(yard);
   return (
     <>
       <Link to={`/portal/yards/${yard.id}`} className="mb-3 inline-flex min-h-11 items-center font-semibold text-pine-800 underline">
