@@ -1,4 +1,5 @@
 import type { ReactNode } from "react";
+import { formatCents } from "~/components/format";
 
 /** A plain data table that scrolls sideways on narrow screens instead of breaking the page. */
 export function Table({
@@ -75,5 +76,21 @@ export function Td({
     <td colSpan={colSpan} className={`px-3 py-2 ${align === "right" ? "text-right tabular-nums" : ""} ${className}`}>
       {children}
     </td>
+  );
+}
+
+/** Footer rows of labelled money totals (subtotal, tax, total, …), each label spanning the columns before the amount. */
+export function MoneyTotalRows({ rows, labelColumns }: { rows: readonly (readonly [label: string, cents: number])[]; labelColumns: number }) {
+  return (
+    <>
+      {rows.map(([label, cents]) => (
+        <tr key={label}>
+          <th scope="row" colSpan={labelColumns} className="px-3 py-2 text-right">
+            {label}
+          </th>
+          <Td align="right">{formatCents(cents)}</Td>
+        </tr>
+      ))}
+    </>
   );
 }

@@ -3,7 +3,7 @@ import { formatCents, formatInstant, formatServiceDate } from "~/components/form
 import { Button, buttonClass } from "~/components/ui/button";
 import { Card, PageHeader } from "~/components/ui/card";
 import { Field, FormMessage } from "~/components/ui/field";
-import { Table, Td, Th } from "~/components/ui/table";
+import { Table, Td, Th, MoneyTotalRows } from "~/components/ui/table";
 import {
   fieldErrors,
   formValues,
@@ -276,44 +276,16 @@ export default function OfficeInvoice({
               </>
             }
             foot={
-              <>
-                <tr>
-                  <th scope="row" colSpan={3} className="px-3 py-2 text-right">
-                    Subtotal
-                  </th>
-                  <Td align="right">{formatCents(invoice.subtotalCents)}</Td>
-                </tr>
-                <tr>
-                  <th scope="row" colSpan={3} className="px-3 py-2 text-right">
-                    Tax
-                  </th>
-                  <Td align="right">{formatCents(invoice.taxCents)}</Td>
-                </tr>
-                <tr>
-                  <th scope="row" colSpan={3} className="px-3 py-2 text-right">
-                    Total
-                  </th>
-                  <Td align="right">{formatCents(invoice.totalCents)}</Td>
-                </tr>
-                <tr>
-                  <th scope="row" colSpan={3} className="px-3 py-2 text-right">
-                    Paid (net of refunds)
-                  </th>
-                  <Td align="right">
-                    {formatCents(money.paidCents - money.refundedCents)}
-                  </Td>
-                </tr>
-                <tr>
-                  <th scope="row" colSpan={3} className="px-3 py-2 text-right">
-                    Balance
-                  </th>
-                  <Td align="right">
-                    {formatCents(
-                      invoice.status === "void" ? 0 : money.balanceCents,
-                    )}
-                  </Td>
-                </tr>
-              </>
+              <MoneyTotalRows
+                labelColumns={3}
+                rows={[
+                  ["Subtotal", invoice.subtotalCents],
+                  ["Tax", invoice.taxCents],
+                  ["Total", invoice.totalCents],
+                  ["Paid (net of refunds)", money.paidCents - money.refundedCents],
+                  ["Balance", invoice.status === "void" ? 0 : money.balanceCents],
+                ]}
+              />
             }
           >
             {invoice.lines.map((line) => (

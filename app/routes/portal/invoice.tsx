@@ -2,7 +2,7 @@ import { data, Link } from "react-router";
 import { formatCents, formatInstant, formatServiceDate } from "~/components/format";
 import { buttonClass } from "~/components/ui/button";
 import { Card, PageHeader } from "~/components/ui/card";
-import { Table, Td, Th } from "~/components/ui/table";
+import { Table, Td, Th, MoneyTotalRows } from "~/components/ui/table";
 import { customerInvoice, parsePortalInvoiceId, type PortalInvoiceStatus } from "~/models/portal-invoices.server";
 import { db } from "~/services/db.server";
 import { payLinkToken } from "~/services/pay-link.server";
@@ -105,24 +105,16 @@ export default function PortalInvoice({ loaderData }: Route.ComponentProps) {
               </>
             }
             foot={
-              <>
-                {(
-                  [
-                    ["Subtotal", invoice.subtotalCents],
-                    ["Tax", invoice.taxCents],
-                    ["Total", invoice.totalCents],
-                    ["Paid (less any refunds)", invoice.paidCents],
-                    ["Still to pay", invoice.balanceCents],
-                  ] as const
-                ).map(([label, cents]) => (
-                  <tr key={label}>
-                    <th scope="row" colSpan={2} className="px-3 py-2 text-right">
-                      {label}
-                    </th>
-                    <Td align="right">{formatCents(cents)}</Td>
-                  </tr>
-                ))}
-              </>
+              <MoneyTotalRows
+                labelColumns={2}
+                rows={[
+                  ["Subtotal", invoice.subtotalCents],
+                  ["Tax", invoice.taxCents],
+                  ["Total", invoice.totalCents],
+                  ["Paid (less any refunds)", invoice.paidCents],
+                  ["Still to pay", invoice.balanceCents],
+                ]}
+              />
             }
           >
             {invoice.lines.map((line) => (
