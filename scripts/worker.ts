@@ -22,6 +22,7 @@ import { deliverEmail, deliverQueuedEmails, EmailNotFoundError } from "~/models/
 import { handleInvoiceIssued, queueUnsentInvoiceEmails } from "~/models/invoice-mail.server";
 import { queueOverdueReminders } from "~/models/invoice-reminders.server";
 import { queueVisitReminders, reminderDateFor } from "~/models/reminders.server";
+import { deleteExpiredSessions } from "~/models/sessions.server";
 import { loadBusinessSettings } from "~/models/settings.server";
 import { dateInZone } from "~/services/clock.server";
 import { db } from "~/services/db.server";
@@ -139,6 +140,12 @@ async function sweep() {
     if (timeZone !== scheduledTimeZone) scheduledTimeZone = await scheduleDailyJobs();
   } catch (error) {
     log(`sweep: rescheduling failed: ${errorText(error)}`);
+  }
+  try {
+    const ended = await deleteExpiredSessions(db);
+    if (ended > 0) log(`sweep: ${ended} expired session(s) deleted`);
+  } catch (error) {
+    log(`sweep: deleting expired sessions failed: ${errorText(error)}`);
   }
 }
 

@@ -2,6 +2,7 @@ import { randomBytes } from "node:crypto";
 import type { Knex } from "knex";
 import { z } from "zod";
 import { invoiceTotals } from "./invoices.server";
+import { endUserSessions } from "./sessions.server";
 import { hashPassword } from "./users.server";
 
 // A customer's own data: everything Varroute holds about them as one JSON download, and
@@ -357,7 +358,7 @@ export function townOfAddress(address: string | null): string | null {
  * - yards lose their names, access notes and street addresses and are archived;
  * - e-mails to them lose address, subject and bodies, and unsent ones are never sent;
  * - the sign-in is disabled, its e-mail, name, phone and password replaced, so signing in
- *   fails and every session ends (findSessionUser ignores disabled users);
+ *   fails, and every session of it, on every device, is deleted;
  * - earlier audit entries, and the finish results kept for crew phones' replays, lose the
  *   e-mail address, names and yard details they quoted;
  * - one audit row "customer.delete" records the deletion, with counts only.
@@ -516,6 +517,7 @@ export async function deleteCustomerAccount(
           disabled_at: trx.raw("coalesce(disabled_at, now())") as unknown as Date,
           updated_at: trx.fn.now() as unknown as Date,
         });
+      await endUserSessions(trx, userId);
       // Earlier audit entries that quoted their e-mail address.
       await trx("audit_log")
         .where({ entity_type: "user", entity_id: String(userId) })

@@ -312,6 +312,55 @@ export interface AppliedChangeRow {
   result: unknown;
 }
 
+/** A signed-in session (sessions.server.ts); `id` is the SHA-256 hash (hex) of the cookie's token. */
+export interface SessionRow {
+  id: string;
+  user_id: Id;
+  /** The session's values other than the user: flash notices. */
+  data: Record<string, unknown>;
+  user_agent: string | null;
+  created_at: Date;
+  last_seen_at: Date;
+  expires_at: Date;
+}
+
+/** A Stripe Checkout Session made for an invoice (payments.server.ts); amount null on sessions from before the table. */
+export interface CheckoutSessionRow {
+  id: string;
+  invoice_id: Id;
+  amount_cents: number | null;
+  currency: string;
+  status: "open" | "expired" | "paid" | "refunded";
+  payment_intent_id: string | null;
+  created_at: Date;
+  updated_at: Date;
+}
+
+/** Card money the webhook refused and gave back, once per payment intent (payments.server.ts). */
+export interface CardPaymentRefusalRow {
+  payment_intent_id: string;
+  checkout_session_id: string | null;
+  invoice_id: Id | null;
+  amount_cents: number;
+  currency: string;
+  reason: "no_invoice" | "unknown_session" | "invoice_not_open" | "currency_mismatch" | "over_balance";
+  stripe_refund_id: string | null;
+  created_at: Date;
+}
+
+/** A sign-up waiting for its e-mail address to be confirmed (sign-up-requests.server.ts); `token_hash` is the SHA-256 (hex) of the link's token. */
+export interface SignUpRequestRow {
+  id: Id;
+  token_hash: string;
+  name: string;
+  email: string;
+  phone: string | null;
+  password_hash: string;
+  created_at: Date;
+  expires_at: Date;
+  used_at: Date | null;
+}
+
 declare module "knex/types/tables" {
   interface Tables {
     users: UserRow;
@@ -338,5 +387,9 @@ declare module "knex/types/tables" {
     audit_log: AuditLogRow;
     service_days: ServiceDayRow;
     applied_changes: AppliedChangeRow;
+    checkout_sessions: CheckoutSessionRow;
+    card_payment_refusals: CardPaymentRefusalRow;
+    sessions: SessionRow;
+    sign_up_requests: SignUpRequestRow;
   }
 }

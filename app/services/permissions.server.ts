@@ -28,6 +28,7 @@ export function homeFor(role: Role): string {
   }
 }
 
+/** The signed-in user: the request's session, read from the session store, and its user when still enabled. */
 export async function optionalUser(request: Request): Promise<SessionUser | null> {
   const session = await getSession(request);
   const userId = session.get("userId");
@@ -60,8 +61,41 @@ export async function requireCustomer(request: Request): Promise<SessionUser & {
   return user as SessionUser & { customerId: string };
 }
 
-/** Only accept same-site relative paths as post-sign-in destinations. */
+// A dummy origin to resolve redirect targets against: a target that leaves it is off-site.
+const SAME_ORIGIN = "http://same-origin.invalid";
+/** Control characters, any whitespace (browsers drop tabs and newlines in URLs, so "/<tab>/evil" becomes "//evil") and backslashes (read as "/"). */
+const UNSAFE_CHARACTER = /[\u0000-\u001f\u007f-\u009f\s\\]/u;
+/** The same, once percent-escapes are decoded byte by byte (ASCII only: bytes above 0x7f are parts of UTF-8 characters). */
+const ENCODED_CONTROL = /[\u0000-\u001f\u007f]/;
+const ENCODED_PATH_UNSAFE = /[ \\]/;
+/** Longer than any path the app makes; a Location header need not carry more. */
+const REDIRECT_MAX_LENGTH = 2048;
+
+/** Percent-escapes decoded byte by byte, never throwing: enough to see an encoded tab, slash or backslash. */
+function percentDecodedBytes(value: string): string {
+  return value.replace(/%([0-9a-fA-F]{2})/g, (_, hex: string) => String.fromCharCode(parseInt(hex, 16)));
+}
+
+/**
+ * `to` when it is a path on this site ("/portal/invoices?year=2026"), else `fallback`.
+ * Refused: anything with control characters, whitespace or backslashes; anything not
+ * starting with exactly one "/" ("//evil.example", "https://evil.example", " /x"); anything
+ * that resolves to another origin. The same checks apply once more to the target with its
+ * percent-escapes decoded ("/%09/evil.example"), in case some later step decodes it again;
+ * in the query only encoded control characters are refused ("?q=Robin%20Hive" is fine).
+ */
 export function safeRedirectPath(to: string | null | undefined, fallback: string): string {
-  if (!to || !to.startsWith("/") || to.startsWith("//") || to.startsWith("/\\")) return fallback;
+  if (typeof to !== "string" || to.length === 0 || to.length > REDIRECT_MAX_LENGTH) return fallback;
+  if (UNSAFE_CHARACTER.test(to)) return fallback;
+  if (!to.startsWith("/") || to.startsWith("//")) return fallback;
+  const decoded = percentDecodedBytes(to);
+  if (ENCODED_CONTROL.test(decoded)) return fallback;
+  const decodedPath = decoded.split(/[?#]/, 1)[0];
+  if (ENCODED_PATH_UNSAFE.test(decodedPath) || decodedPath.startsWith("//")) return fallback;
+  try {
+    if (new URL(to, SAME_ORIGIN).origin !== SAME_ORIGIN) return fallback;
+  } catch {
+    return fallback;
+  }
   return to;
 }

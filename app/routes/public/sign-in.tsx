@@ -1,8 +1,9 @@
-import { data, Form, Link, useNavigation } from "react-router";
+import { data, Form, Link, redirect, useNavigation } from "react-router";
 import { Button } from "~/components/ui/button";
 import { Field, FormMessage } from "~/components/ui/field";
 import { authenticator, SignInError } from "~/services/auth.server";
 import { homeFor, optionalUser, safeRedirectPath } from "~/services/permissions.server";
+import { readForm } from "~/services/request.server";
 import { createUserSession } from "~/services/session.server";
 import type { Route } from "./+types/sign-in";
 
@@ -11,20 +12,29 @@ export const meta: Route.MetaFunction = () => [{ title: "Sign in · Varroute" }]
 export async function loader({ request }: Route.LoaderArgs) {
   const user = await optionalUser(request);
   const url = new URL(request.url);
-  if (user) return createUserSession(request, user.id, safeRedirectPath(url.searchParams.get("redirectTo"), homeFor(user.role)));
-  return { signedOut: url.searchParams.has("signedOut"), redirectTo: url.searchParams.get("redirectTo") ?? "" };
+  // Only a same-site path is kept; anything else (an off-site address, control characters)
+  // is dropped here, so it never reaches a Location header or the form.
+  const redirectTo = safeRedirectPath(url.searchParams.get("redirectTo"), "");
+  // Already signed in: on to where they were going. A page view does not touch the session.
+  if (user) throw redirect(redirectTo || homeFor(user.role));
+  return { signedOut: url.searchParams.has("signedOut"), redirectTo };
 }
 
 export async function action({ request }: Route.ActionArgs) {
   const redirectTo = new URL(request.url).searchParams.get("redirectTo");
-  const email = String((await request.clone().formData()).get("email") ?? "");
+  // A copy of the body: the form strategy reads the request's own body.
+  const form = await readForm(request.clone());
+  const email = form.get("email");
   try {
     const user = await authenticator.authenticate("form", request);
     return createUserSession(request, user.id, safeRedirectPath(redirectTo, homeFor(user.role)));
   } catch (error) {
     if (error instanceof Response) throw error;
     if (error instanceof SignInError) {
-      return data({ email, field: error.field, message: error.message }, { status: error.field === "form" ? 429 : 400 });
+      return data(
+        { email: typeof email === "string" ? email : "", field: error.field, message: error.message },
+        { status: error.field === "form" ? 429 : 400 },
+      );
     }
     throw error;
   }

@@ -7,6 +7,8 @@ export async function loader() {
   throw redirect("/");
 }
 
+// Deletes the session on the server, not only the cookie: a copy of the cookie taken
+// earlier no longer signs anyone in.
 export async function action({ request }: Route.ActionArgs) {
   return destroyUserSession(request, "/sign-in?signedOut=1");
 }
