@@ -5,7 +5,7 @@ import type { BookingInput } from "~/forms/booking";
 import { serverEnv } from "~/services/env.server";
 import { requestEmailDelivery } from "~/services/jobs.server";
 import { dateInZone } from "~/services/clock.server";
-import { lockDayRoom } from "./capacity.server";
+import { lockDayForColonies } from "./capacity.server";
 import { queueEmail } from "./emails.server";
 import { loadBusinessSettings } from "./settings.server";
 
@@ -64,9 +64,9 @@ export async function bookYards(
     }
 
     const colonies = yards.reduce((sum, y) => sum + y.colony_count, 0);
-    const room = await lockDayRoom(trx, settings, input.serviceDate);
-    if (room.closed || room.capacity === 0) throw new BookingRefused("That day is not open for bookings. Choose another day.", "serviceDate");
-    if (colonies > room.remaining) {
+    const room = await lockDayForColonies(trx, settings, input.serviceDate, colonies);
+    if (room.refusal === "closed") throw new BookingRefused("That day is not open for bookings. Choose another day.", "serviceDate");
+    if (room.refusal === "full") {
       throw new BookingRefused(
         room.remaining === 0
           ? "That day is full. Choose another day."

@@ -56,3 +56,43 @@ export async function lockDayRoom(trx: Knex.Transaction, settings: BusinessSetti
   const booked = (row as unknown as { colonies: number }).colonies;
   return { date, capacity, booked, remaining: coloniesStillFitting(capacity, booked), closed: Boolean(day?.closed) };
 }
+
+/** Why a day cannot take more colonies: it is closed (or has no capacity at all), or it is full. */
+export type DayRefusal = "closed" | "full";
+
+/** A day's room seen under its lock, and whether the colonies asked for fit (refusal null). */
+export type DayRoomCheck = DayRoom & { adding: number; refusal: DayRefusal | null };
+
+/** The capacity rule for adding colonies to a day: it must be open and have that much room left. */
+function refusalFor(room: DayRoom, adding: number): DayRefusal | null {
+  if (room.closed || room.capacity === 0) return "closed";
+  return adding > room.remaining ? "full" : null;
+}
+
+/**
+ * Locks a day (see lockDayRoom) and checks whether `adding` more colonies fit on it. Every
+ * write that puts colonies on a day goes through here, so the rule lives in one place and
+ * the check sees the day as no concurrent write can change it before commit.
+ */
+export async function lockDayForColonies(trx: Knex.Transaction, settings: BusinessSettings, date: string, adding: number): Promise<DayRoomCheck> {
+  const room = await lockDayRoom(trx, settings, date);
+  return { ...room, adding, refusal: refusalFor(room, adding) };
+}
+
+/**
+ * lockDayForColonies for several days, locked in date order (every writer that holds more
+ * than one day takes them in that order, so two of them cannot deadlock). Colonies asked for
+ * on the same date are added up. Returns one check per date, in date order.
+ */
+export async function lockDaysForColonies(
+  trx: Knex.Transaction,
+  settings: BusinessSettings,
+  needs: readonly { date: string; adding: number }[],
+): Promise<DayRoomCheck[]> {
+  const byDate = new Map<string, number>();
+  for (const need of needs) byDate.set(need.date, (byDate.get(need.date) ?? 0) + need.adding);
+  const checks: DayRoomCheck[] = [];
+  // ISO dates sort as strings.
+  for (const date of [...byDate.keys()].sort()) checks.push(await lockDayForColonies(trx, settings, date, byDate.get(date)!));
+  return checks;
+}

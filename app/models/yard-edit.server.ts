@@ -1,5 +1,92 @@
 import type { Knex } from "knex";
 import type { YardInput } from "~/forms/yard";
+import { lockDaysForColonies } from "./capacity.server";
+import { loadBusinessSettings } from "./settings.server";
+
+/** A day with booked visits of the yard that cannot take the bigger colony count. */
+export type CrowdedDay = {
+  date: string;
+  visitIds: number[];
+  closed: boolean;
+  /** Colonies the day can still take. */
+  remaining: number;
+  /** Colonies the new count would add to the day. */
+  adding: number;
+  /** The largest colony count this yard's visits on that day still fit. */
+  mostColonies: number;
+};
+
+/** Who reads the refusal: the customer asks us to move a visit, the dispatcher moves it. */
+export type EditAudience = "customer" | "dispatcher";
+
+const colonies = (n: number) => `${n} ${n === 1 ? "colony" : "colonies"}`;
+
+/** The message at the colony-count field when the new count does not fit on a booked day. */
+export function colonyCountRefusal(days: readonly CrowdedDay[], colonyCount: number, audience: EditAudience): string {
+  const dayNotes = days.map((d) => `${d.date} (${d.closed ? "closed" : `room for ${d.remaining} more, ${d.adding} needed`})`).join(", ");
+  const most = Math.min(...days.map((d) => d.mostColonies));
+  const one = days.length === 1;
+  if (audience === "dispatcher") {
+    const pages = days.flatMap((d) => d.visitIds.map((id) => `/dispatch/visits/${id}`)).join(", ");
+    return (
+      `Nothing was saved: ${colonies(colonyCount)} do not fit on the booked ${one ? "day" : "days"} ${dayNotes}. ` +
+      `Move the ${one ? "visit" : "visits"} to a day with room (${pages}), or keep the count at ${most} or fewer.`
+    );
+  }
+  return (
+    `Nothing was saved: ${colonies(colonyCount)} do not fit on the ${one ? "day" : "days"} of your booked ${one ? "visit" : "visits"}, ${dayNotes}. ` +
+    `Book fewer colonies (at most ${most} for now), or ask us to move the ${one ? "visit" : "visits"} to a day with room.`
+  );
+}
+
+/** An edit refused because a booked day has no room for the bigger colony count; nothing was written. */
+export class YardEditRefused extends Error {
+  readonly field = "colonyCount" as const;
+  constructor(
+    readonly days: CrowdedDay[],
+    readonly colonyCount: number,
+  ) {
+    super(colonyCountRefusal(days, colonyCount, "customer"));
+  }
+
+  messageFor(audience: EditAudience): string {
+    return colonyCountRefusal(this.days, this.colonyCount, audience);
+  }
+}
+
+type BookedVisit = { id: number; service_date: string; colonies_expected: number };
+
+/**
+ * Locks the days where the new count makes a booked visit bigger, in date order, and throws
+ * YardEditRefused when one of them has no room for it (the same lock and rule as a booking,
+ * so a concurrent booking and this edit cannot both take a day's last room). Visits that keep
+ * or lose colonies need no room and no lock.
+ */
+async function holdRoomForBiggerVisits(trx: Knex.Transaction, visits: readonly BookedVisit[], colonyCount: number) {
+  const growing = visits.filter((v) => colonyCount > v.colonies_expected);
+  if (growing.length === 0) return;
+  const settings = await loadBusinessSettings(trx);
+  const checks = await lockDaysForColonies(
+    trx,
+    settings,
+    growing.map((v) => ({ date: v.service_date, adding: colonyCount - v.colonies_expected })),
+  );
+  const crowded: CrowdedDay[] = checks
+    .filter((check) => check.refusal !== null)
+    .map((check) => {
+      const onDay = growing.filter((v) => v.service_date === check.date);
+      const current = onDay.reduce((sum, v) => sum + v.colonies_expected, 0);
+      return {
+        date: check.date,
+        visitIds: onDay.map((v) => v.id),
+        closed: check.refusal === "closed",
+        remaining: check.remaining, // 0 on a closed day
+        adding: check.adding,
+        mostColonies: Math.floor((current + check.remaining) / onDay.length),
+      };
+    });
+  if (crowded.length) throw new YardEditRefused(crowded, colonyCount);
+}
 
 function yardColumns(input: YardInput) {
   return {
@@ -37,15 +124,30 @@ export async function createYard(db: Knex, customerId: number | string, input: Y
   });
 }
 
-/** Updates a yard of this customer; false when the yard is not theirs. Booked visits ahead
- *  take the new colony count, so the day's room and the crew's dose follow the change. */
+/**
+ * Updates a yard of this customer; false when the yard is not theirs. Booked visits take the
+ * new colony count, so the day's room and the crew's dose follow the change. A bigger count
+ * must fit on each of those days (YardEditRefused otherwise, and nothing is written).
+ * Locks: the yard, its booked visits (by id), then their days in date order — a booking
+ * takes its yards before its day and a reschedule its visit before its day, the same order.
+ */
 export async function updateYard(db: Knex, customerId: number | string, yardId: number, input: YardInput, actorUserId: number | string): Promise<boolean> {
   return db.transaction(async (trx) => {
     const before = await trx("yards").where({ id: yardId, customer_id: Number(customerId) }).whereNull("archived_at").forUpdate().first();
     if (!before) return false;
+    const booked: BookedVisit[] = await trx("visits")
+      .where({ yard_id: yardId, status: "scheduled" })
+      .orderBy("id")
+      .forUpdate()
+      .select("id", "service_date", "colonies_expected");
+    await holdRoomForBiggerVisits(trx, booked, input.colonyCount);
     await trx("yards").where({ id: yardId }).update({ ...yardColumns(input), updated_at: trx.fn.now() });
     await matchColonies(trx, yardId, input);
-    await trx("visits").where({ yard_id: yardId, status: "scheduled" }).update({ colonies_expected: input.colonyCount, updated_at: trx.fn.now() });
+    // Only the visits whose days were checked above; one added meanwhile (a next round) took
+    // its day's room with the count it was created with.
+    if (booked.length) {
+      await trx("visits").whereIn("id", booked.map((v) => v.id)).update({ colonies_expected: input.colonyCount, updated_at: trx.fn.now() });
+    }
     await trx("audit_log").insert({
       actor_user_id: Number(actorUserId),
       action: "yard.update",

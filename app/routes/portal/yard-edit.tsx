@@ -1,5 +1,6 @@
-import { MaxFileSizeExceededError, parseFormData } from "@remix-run/form-data-parser";
+import { MaxFileSizeExceededError, MaxFilesExceededError, MaxTotalSizeExceededError, parseFormData } from "@remix-run/form-data-parser";
 import { data, Form, Link, redirect, useNavigation } from "react-router";
+import { z } from "zod";
 import { Button, buttonClass } from "~/components/ui/button";
 import { Card, PageHeader } from "~/components/ui/card";
 import { FormMessage } from "~/components/ui/field";
@@ -7,19 +8,20 @@ import { YardForm, yardFormValues, type YardFormValues } from "~/components/yard
 import { fieldErrors, formValues } from "~/forms/field-errors";
 import { PHOTO_MAX_BYTES, yardSchema } from "~/forms/yard";
 import { deleteYardPhoto, listYardPhotos, PHOTO_TOO_LARGE, PhotoRefused, storeYardPhoto } from "~/models/attachments.server";
-import { updateYard } from "~/models/yard-edit.server";
+import { updateYard, YardEditRefused } from "~/models/yard-edit.server";
 import { getYardForCustomer } from "~/models/yards.server";
 import { businessToday } from "~/services/clock.server";
 import { db } from "~/services/db.server";
 import { mapConfig } from "~/services/env.server";
 import { requireCustomer } from "~/services/permissions.server";
+import { idParam, readForm, requireFormBody } from "~/services/request.server";
 import type { Route } from "./+types/yard-edit";
 
 export const meta: Route.MetaFunction = ({ data }) => [{ title: `Edit ${data?.yard.name ?? "yard"} · Varroute` }];
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireCustomer(request);
-  const yard = await getYardForCustomer(db, user.customerId, params.yardId, await businessToday(db));
+  const yard = await getYardForCustomer(db, user.customerId, String(idParam(params.yardId, "yard")), await businessToday(db));
   const photos = await listYardPhotos(db, yard.id);
   const url = new URL(request.url);
   return { yard, photos, map: mapConfig(), created: url.searchParams.has("created"), saved: url.searchParams.has("saved") };
@@ -29,18 +31,31 @@ type ActionResult =
   | { intent: "save"; errors: Record<string, string | undefined>; values: Record<string, string> }
   | { intent: "photo"; photoError: string };
 
+const deletePhotoSchema = z.object({
+  intent: z.literal("delete-photo"),
+  attachmentId: z.coerce.number({ error: "Choose a photo to remove." }).int().positive("Choose a photo to remove.").max(Number.MAX_SAFE_INTEGER),
+});
+
+/** The photo form's fields; a body the parser cannot read is the sender's error (400), said at the photo field. */
+async function readPhotoUpload(request: Request): Promise<FormData | { status: number; photoError: string }> {
+  try {
+    return await parseFormData(request, { maxFileSize: PHOTO_MAX_BYTES, maxFiles: 1 });
+  } catch (error) {
+    if (error instanceof MaxFileSizeExceededError || error instanceof MaxTotalSizeExceededError) return { status: 413, photoError: PHOTO_TOO_LARGE };
+    if (error instanceof MaxFilesExceededError) return { status: 400, photoError: "Upload one photo at a time." };
+    // FormDataParseError, MultipartParseError and the other parser limits: a malformed body.
+    return { status: 400, photoError: "The upload could not be read. Choose the photo again and send it once more." };
+  }
+}
+
 export async function action({ request, params }: Route.ActionArgs) {
   const user = await requireCustomer(request);
-  const yard = await getYardForCustomer(db, user.customerId, params.yardId, await businessToday(db));
-  const isUpload = request.headers.get("Content-Type")?.startsWith("multipart/form-data");
+  const yard = await getYardForCustomer(db, user.customerId, String(idParam(params.yardId, "yard")), await businessToday(db));
+  requireFormBody(request);
+  const isUpload = request.headers.get("Content-Type")?.toLowerCase().startsWith("multipart/form-data");
   if (isUpload) {
-    let form: FormData;
-    try {
-      form = await parseFormData(request, { maxFileSize: PHOTO_MAX_BYTES, maxFiles: 1 });
-    } catch (error) {
-      if (error instanceof MaxFileSizeExceededError) return data<ActionResult>({ intent: "photo", photoError: PHOTO_TOO_LARGE }, { status: 413 });
-      throw error;
-    }
+    const form = await readPhotoUpload(request);
+    if (!(form instanceof FormData)) return data<ActionResult>({ intent: "photo", photoError: form.photoError }, { status: form.status });
     const file = form.get("photo");
     if (!(file instanceof File) || file.size === 0) return data<ActionResult>({ intent: "photo", photoError: "Choose a photo to upload." }, { status: 400 });
     try {
@@ -51,14 +66,21 @@ export async function action({ request, params }: Route.ActionArgs) {
     }
     throw redirect(`/portal/yards/${yard.id}/edit?saved=photo`);
   }
-  const values = formValues(await request.formData()) as Record<string, string>;
+  const values = formValues(await readForm(request)) as Record<string, string>;
   if (values.intent === "delete-photo") {
-    await deleteYardPhoto(db, yard.id, Number(values.attachmentId), user.id);
+    const removal = deletePhotoSchema.safeParse(values);
+    if (!removal.success) return data<ActionResult>({ intent: "photo", photoError: "Choose a photo to remove." }, { status: 400 });
+    await deleteYardPhoto(db, yard.id, removal.data.attachmentId, user.id);
     throw redirect(`/portal/yards/${yard.id}/edit`);
   }
   const parsed = yardSchema.safeParse(values);
   if (!parsed.success) return data<ActionResult>({ intent: "save", errors: fieldErrors(parsed.error), values }, { status: 400 });
-  await updateYard(db, user.customerId, yard.id, parsed.data, user.id);
+  try {
+    await updateYard(db, user.customerId, yard.id, parsed.data, user.id);
+  } catch (error) {
+    if (error instanceof YardEditRefused) return data<ActionResult>({ intent: "save", errors: { [error.field]: error.messageFor("customer") }, values }, { status: 409 });
+    throw error;
+  }
   throw redirect(`/portal/yards/${yard.id}?saved=1`);
 }
 
