@@ -17,6 +17,8 @@ export function Layout({ children }: { children: React.ReactNode }) {
       </head>
       <body className="min-h-screen bg-paper font-sans text-ink antialiased">
         {children}
+        {/* Both inline their scripts with this response's CSP nonce: ServerRouter in
+            app/entry.server.tsx passes it to them (React Router 7's nonce default). */}
         <ScrollRestoration />
         <Scripts />
       </body>

@@ -2,13 +2,13 @@ import { data } from "react-router";
 import { photoForUser } from "~/models/attachments.server";
 import { db } from "~/services/db.server";
 import { requireUser } from "~/services/permissions.server";
+import { idParam } from "~/services/request.server";
 import type { Route } from "./+types/attachment";
 
 // A stored photo, for whoever may see it (see photoForUser); 404 for anyone else.
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireUser(request);
-  const id = /^\d+$/.test(params.attachmentId) ? Number(params.attachmentId) : null;
-  const photo = id === null ? null : await photoForUser(db, id, user);
+  const photo = await photoForUser(db, idParam(params.attachmentId, "photo"), user);
   if (!photo) throw data("There is no photo with that number that you may see.", { status: 404 });
   return new Response(new Uint8Array(photo.content), {
     headers: {

@@ -6,16 +6,20 @@ import { roomBetween } from "~/models/capacity.server";
 import { loadBusinessSettings } from "~/models/settings.server";
 import { db } from "~/services/db.server";
 import { requireRole } from "~/services/permissions.server";
+import { isCalendarDate } from "~/services/request.server";
 import type { Route } from "./+types/capacity";
 
 const MAX_DAYS = 62;
+// A date that is not on the calendar (2027-02-30) is a 400 here, not an error further down.
+// zod runs the object's checks even when a field failed, so they look at real dates only.
+const bothDates = (q: { from: string; to: string }) => isCalendarDate(q.from) && isCalendarDate(q.to);
 const query = z
   .object({
-    from: z.string().regex(/^\d{4}-\d{2}-\d{2}$/, "from must be a date (YYYY-MM-DD)."),
-    to: z.string().regex(/^\d{4}-\d{2}-\d{2}$/, "to must be a date (YYYY-MM-DD)."),
+    from: z.string().refine(isCalendarDate, "from must be a date on the calendar (YYYY-MM-DD)."),
+    to: z.string().refine(isCalendarDate, "to must be a date on the calendar (YYYY-MM-DD)."),
   })
-  .refine((q) => calendarDaysBetween(q.from, q.to) >= 0, { message: "to must not be before from.", path: ["to"] })
-  .refine((q) => calendarDaysBetween(q.from, q.to) < MAX_DAYS, { message: `Ask for at most ${MAX_DAYS} days at once.`, path: ["to"] });
+  .refine((q) => !bothDates(q) || calendarDaysBetween(q.from, q.to) >= 0, { message: "to must not be before from.", path: ["to"] })
+  .refine((q) => !bothDates(q) || calendarDaysBetween(q.from, q.to) < MAX_DAYS, { message: `Ask for at most ${MAX_DAYS} days at once.`, path: ["to"] });
 
 // Colonies that still fit per day, for the booking calendar (fetched by the browser).
 export async function loader({ request }: Route.LoaderArgs) {

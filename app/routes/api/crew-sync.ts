@@ -1,6 +1,7 @@
 import { data } from "react-router";
 import { syncBatchSchema } from "~/forms/sync";
 import { applySyncBatch } from "~/models/tallies.server";
+import { readJsonBody } from "~/services/api-request.server";
 import { db } from "~/services/db.server";
 import { AREA_ROLES, requireRole } from "~/services/permissions.server";
 import type { Route } from "./+types/crew-sync";
@@ -10,12 +11,8 @@ import type { Route } from "./+types/crew-sync";
 export async function action({ request }: Route.ActionArgs) {
   const user = await requireRole(request, AREA_ROLES.crew);
   if (request.method !== "POST") return data({ error: "Send the changes with POST." }, { status: 405 });
-  let body: unknown;
-  try {
-    body = await request.json();
-  } catch {
-    return data({ error: "Send the changes as JSON." }, { status: 400 });
-  }
+  // Only the crew screens' own fetch gets through: another site's post is 403, text is 415.
+  const body = await readJsonBody(request);
   const parsed = syncBatchSchema.safeParse(body);
   if (!parsed.success) return data({ error: parsed.error.issues[0].message }, { status: 400 });
   const results = await applySyncBatch(db, { crewId: user.crewId ?? 0, userId: user.id, changes: parsed.data.changes });

@@ -5,14 +5,16 @@ import { businessToday } from "~/services/clock.server";
 import { visitsBetween } from "~/models/visits.server";
 import { db } from "~/services/db.server";
 import { AREA_ROLES, requireRole } from "~/services/permissions.server";
+import { isCalendarDate } from "~/services/request.server";
 import type { Route } from "./+types/visits";
 
+// zod runs the object's check even when a field failed, so it looks at real dates only.
 const query = z
   .object({
-    from: z.string().regex(/^\d{4}-\d{2}-\d{2}$/, "from must be a date (YYYY-MM-DD)."),
-    to: z.string().regex(/^\d{4}-\d{2}-\d{2}$/, "to must be a date (YYYY-MM-DD)."),
+    from: z.string().refine(isCalendarDate, "from must be a date on the calendar (YYYY-MM-DD)."),
+    to: z.string().refine(isCalendarDate, "to must be a date on the calendar (YYYY-MM-DD)."),
   })
-  .refine((q) => calendarDaysBetween(q.from, q.to) >= 0 && calendarDaysBetween(q.from, q.to) <= 62, {
+  .refine((q) => !isCalendarDate(q.from) || !isCalendarDate(q.to) || (calendarDaysBetween(q.from, q.to) >= 0 && calendarDaysBetween(q.from, q.to) <= 62), {
     message: "Ask for 0 to 62 days from `from`.",
     path: ["to"],
   });

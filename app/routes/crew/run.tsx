@@ -1,4 +1,3 @@
-import { data } from "react-router";
 import { CrewField } from "~/components/crew/crew-field";
 import { ComingRuns, CrewRunView } from "~/components/crew-run-view";
 import { formatServiceDate } from "~/components/format";
@@ -6,15 +5,16 @@ import { crewFieldRun } from "~/models/crew-field.server";
 import { crewRunScreen } from "~/models/crew-run.server";
 import { db } from "~/services/db.server";
 import { AREA_ROLES, requireRole } from "~/services/permissions.server";
+import { dateParam } from "~/services/request.server";
 import type { Route } from "./+types/run";
 
 export const meta: Route.MetaFunction = ({ data }) => [{ title: `Run ${data?.screen.serviceDate ?? ""} · Varroute` }];
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireRole(request, AREA_ROLES.crew);
-  if (!/^\d{4}-\d{2}-\d{2}$/.test(params.date)) throw data("That is not a date.", { status: 404 });
-  const screen = await crewRunScreen(db, user, params.date);
-  const field = user.crewId ? await crewFieldRun(db, user.crewId, params.date) : null;
+  const date = dateParam(params.date);
+  const screen = await crewRunScreen(db, user, date);
+  const field = user.crewId ? await crewFieldRun(db, user.crewId, date) : null;
   return { screen, field };
 }
 

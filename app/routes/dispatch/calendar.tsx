@@ -4,6 +4,7 @@ import { PageHeader } from "~/components/ui/card";
 import { businessToday } from "~/services/clock.server";
 import { db } from "~/services/db.server";
 import { AREA_ROLES, requireRole } from "~/services/permissions.server";
+import { isCalendarDate } from "~/services/request.server";
 import type { Route } from "./+types/calendar";
 
 export const meta: Route.MetaFunction = () => [{ title: "Calendar · Varroute" }];
@@ -12,7 +13,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, AREA_ROLES.dispatch);
   const crews = await db("crews").where({ active: true }).orderBy("name").select("id", "name");
   const asked = new URL(request.url).searchParams.get("date");
-  return { crews, start: asked && /^\d{4}-\d{2}-\d{2}$/.test(asked) ? asked : await businessToday(db) };
+  return { crews, start: asked && isCalendarDate(asked) ? asked : await businessToday(db) };
 }
 
 export default function Calendar({ loaderData }: Route.ComponentProps) {

@@ -26,20 +26,14 @@ import { VisitChangeRefused } from "~/models/visit-changes.server";
 import { db } from "~/services/db.server";
 import { mapConfig } from "~/services/env.server";
 import { AREA_ROLES, requireRole } from "~/services/permissions.server";
+import { dateParam, readForm } from "~/services/request.server";
 import type { Route } from "./+types/day";
 
 export const meta: Route.MetaFunction = ({ data }) => [{ title: `Day plan ${data?.day.date ?? ""} · Varroute` }];
 
-function parseDate(value: string) {
-  if (!/^\d{4}-\d{2}-\d{2}$/.test(value) || Number.isNaN(Date.parse(`${value}T00:00:00Z`))) {
-    throw data("That is not a date (use YYYY-MM-DD).", { status: 404 });
-  }
-  return value;
-}
-
 export async function loader({ request, params }: Route.LoaderArgs) {
   await requireRole(request, AREA_ROLES.dispatch);
-  const date = parseDate(params.date);
+  const date = dateParam(params.date);
   const [day, settings] = await Promise.all([dayPlanningData(db, date), loadBusinessSettings(db)]);
   return { day, unitSystem: settings.unitSystem, map: mapConfig() };
 }
@@ -48,8 +42,8 @@ type Answer = { ok: boolean; message: string; details?: string[] };
 
 export async function action({ request, params }: Route.ActionArgs) {
   const user = await requireRole(request, AREA_ROLES.dispatch);
-  const date = parseDate(params.date);
-  const parsed = dayActionSchema.safeParse(formValues(await request.formData()));
+  const date = dateParam(params.date);
+  const parsed = dayActionSchema.safeParse(formValues(await readForm(request)));
   if (!parsed.success) return data<Answer>({ ok: false, message: parsed.error.issues[0].message }, { status: 400 });
   const input = parsed.data;
   try {

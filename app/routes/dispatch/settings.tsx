@@ -12,6 +12,7 @@ import { celsiusToFahrenheit, kilometresToMiles, roundTo } from "~/domain/units"
 import { loadBusinessSettings, updateBusinessSettingsFromForm } from "~/models/settings.server";
 import { db } from "~/services/db.server";
 import { AREA_ROLES, requireRole } from "~/services/permissions.server";
+import { readForm } from "~/services/request.server";
 import type { Route } from "./+types/settings";
 
 export const meta: Route.MetaFunction = () => [{ title: "Settings · Varroute" }];
@@ -23,8 +24,12 @@ export async function loader({ request }: Route.LoaderArgs) {
 }
 
 export async function action({ request }: Route.ActionArgs) {
-  const user = await requireRole(request, ["owner"]);
-  const values = formValues(await request.formData());
+  // Staff of the area first, then the body (400 when it is not a form), then only the owner
+  // may change settings (403).
+  const user = await requireRole(request, AREA_ROLES.dispatch);
+  const form = await readForm(request);
+  if (user.role !== "owner") throw data("Only the owner can change the settings.", { status: 403 });
+  const values = formValues(form);
   const result = await updateBusinessSettingsFromForm(db, values, user.id);
   if (!result.ok) return data({ errors: result.errors, values: values as Record<string, string> }, { status: 400 });
   return { errors: null, values: settingsFormDefaults(result.settings) };

@@ -10,12 +10,13 @@ import { cancelVisit, changeVisitTimeOfDay, rescheduleVisit, VisitChangeRefused 
 import { getVisitDetail } from "~/models/visits.server";
 import { db } from "~/services/db.server";
 import { AREA_ROLES, requireRole } from "~/services/permissions.server";
+import { idParam, readForm } from "~/services/request.server";
 import type { Route } from "./+types/visit";
 
 export const meta: Route.MetaFunction = ({ data }) => [{ title: `Visit to ${data?.visit.yardName ?? "a yard"} · Varroute` }];
 
 async function loadVisit(visitId: string) {
-  const visit = /^\d+$/.test(visitId) ? await getVisitDetail(db, Number(visitId)) : null;
+  const visit = await getVisitDetail(db, idParam(visitId, "visit"));
   if (!visit) throw data("There is no visit with that number.", { status: 404 });
   return visit;
 }
@@ -29,7 +30,7 @@ export async function loader({ request, params }: Route.LoaderArgs) {
 export async function action({ request, params }: Route.ActionArgs) {
   const user = await requireRole(request, AREA_ROLES.dispatch);
   const visit = await loadVisit(params.visitId);
-  const values = formValues(await request.formData());
+  const values = formValues(await readForm(request));
   const parsed = visitChangeSchema.safeParse(values);
   if (!parsed.success) return data({ ok: false as const, errors: fieldErrors(parsed.error), intent: String(values.intent ?? "") }, { status: 400 });
   let takenOffRun = false;

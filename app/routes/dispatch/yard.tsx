@@ -7,13 +7,15 @@ import { getYard } from "~/models/yards.server";
 import { businessToday } from "~/services/clock.server";
 import { db } from "~/services/db.server";
 import { AREA_ROLES, requireRole } from "~/services/permissions.server";
+import { idParam } from "~/services/request.server";
 import type { Route } from "./+types/yard";
 
 export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.yard.name ?? "Yard"} · Varroute` }];
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   await requireRole(request, AREA_ROLES.dispatch);
-  const yard = await getYard(db, params.yardId, await businessToday(db));
+  // getYard takes the id as text; idParam first, so an id past bigint is a 404, not a 500.
+  const yard = await getYard(db, String(idParam(params.yardId, "yard")), await businessToday(db));
   return { ...(await yardPageData(db, yard)), saved: new URL(request.url).searchParams.has("saved") };
 }
 

@@ -1,6 +1,13 @@
 import { useEffect, useId, useRef, useState, type ChangeEvent } from "react";
 import { data, Form, Link, useNavigation } from "react-router";
-import { MaxFileSizeExceededError, MaxFilesExceededError, parseFormData } from "@remix-run/form-data-parser";
+import {
+  FormDataParseError,
+  MaxFileSizeExceededError,
+  MaxFilesExceededError,
+  MaxTotalSizeExceededError,
+  MultipartParseError,
+  parseFormData,
+} from "@remix-run/form-data-parser";
 import { Button, buttonClass } from "~/components/ui/button";
 import { Card, PageHeader } from "~/components/ui/card";
 import { FormMessage } from "~/components/ui/field";
@@ -18,6 +25,7 @@ import {
 import { importCustomersCsv } from "~/models/customer-import.server";
 import { db } from "~/services/db.server";
 import { AREA_ROLES, requireRole } from "~/services/permissions.server";
+import { requireFormBody } from "~/services/request.server";
 import type { Route } from "./+types/customers-import";
 
 export const meta: Route.MetaFunction = () => [{ title: "Import customers · Varroute" }];
@@ -32,14 +40,20 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export async function action({ request }: Route.ActionArgs) {
   const user = await requireRole(request, AREA_ROLES.office);
+  // JSON or text is a 400 before the parser sees it (it would hand such a body to formData()).
+  requireFormBody(request);
   let form: FormData;
   try {
     form = await parseFormData(request, { maxFileSize: MAX_IMPORT_BYTES, maxFiles: 1 });
   } catch (error) {
+    // Anything the parser refuses (a body cut short, no boundary, too many parts) is the
+    // upload's fault: 400 with a message at the file field. Anything else is a real error.
     const fileError =
-      error instanceof MaxFileSizeExceededError ? TOO_LARGE
+      error instanceof MaxFileSizeExceededError || error instanceof MaxTotalSizeExceededError ? TOO_LARGE
       : error instanceof MaxFilesExceededError ? "Choose one file at a time."
-      : "The upload could not be read. Choose the file again.";
+      : error instanceof FormDataParseError || error instanceof MultipartParseError ? "The upload could not be read. Choose the file again."
+      : null;
+    if (fileError === null) throw error;
     return data({ fileError, fileName: null, errors: null, totalErrors: 0, imported: null }, { status: 400 });
   }
   const file = form.get("file");

@@ -26,21 +26,16 @@ import { businessToday } from "~/services/clock.server";
 import { db } from "~/services/db.server";
 import { requestEmailDelivery } from "~/services/jobs.server";
 import { AREA_ROLES, requireRole } from "~/services/permissions.server";
+import { idParam, readForm } from "~/services/request.server";
 import type { Route } from "./+types/invoice";
 
 export const meta: Route.MetaFunction = ({ data }) => [
   { title: `Invoice ${data?.invoice.number ?? ""} · Varroute` },
 ];
 
-function invoiceIdFrom(param: string): number {
-  const id = /^\d{1,12}$/.test(param) ? Number(param) : 0;
-  if (!id) throw data("There is no such invoice.", { status: 404 });
-  return id;
-}
-
 export async function loader({ request, params }: Route.LoaderArgs) {
   await requireRole(request, AREA_ROLES.office);
-  const invoiceId = invoiceIdFrom(params.invoiceId);
+  const invoiceId = idParam(params.invoiceId, "invoice");
   const doc = await invoiceDocument(db, invoiceId);
   if (!doc) throw data("There is no such invoice.", { status: 404 });
   const [row, money, payments, refunds, emails, today, settings] = await Promise.all([
@@ -115,8 +110,8 @@ type ActionResult = {
 
 export async function action({ request, params }: Route.ActionArgs) {
   const user = await requireRole(request, AREA_ROLES.office);
-  const invoiceId = invoiceIdFrom(params.invoiceId);
-  const values = formValues(await request.formData());
+  const invoiceId = idParam(params.invoiceId, "invoice");
+  const values = formValues(await readForm(request));
   const intent = String(values.intent ?? "");
   const parsed = invoiceActionSchema.safeParse(values);
   if (!parsed.success)

@@ -11,13 +11,13 @@ import { listInvoices } from "~/models/office-invoices.server";
 import { businessToday } from "~/services/clock.server";
 import { db } from "~/services/db.server";
 import { AREA_ROLES, requireRole } from "~/services/permissions.server";
+import { isCalendarDate } from "~/services/request.server";
 import type { Route } from "./+types/invoices";
 
 export const meta: Route.MetaFunction = () => [
   { title: "Invoices · Varroute" },
 ];
 
-const ISO_DATE = /^\d{4}-\d{2}-\d{2}$/;
 const STATUS_LABELS: Record<InvoiceStatusFilter, string> = {
   all: "All",
   open: "Open",
@@ -40,14 +40,15 @@ export async function loader({ request }: Route.LoaderArgs) {
   )
     ? (statusParam as InvoiceStatusFilter)
     : "all";
-  const dateParam = (name: string) => {
+  // Like any malformed filter, a date not on the calendar (2027-02-30) is left out.
+  const dateFilter = (name: string) => {
     const v = url.searchParams.get(name) ?? "";
-    return ISO_DATE.test(v) && !Number.isNaN(Date.parse(v)) ? v : null;
+    return isCalendarDate(v) ? v : null;
   };
   const today = await businessToday(db);
   const page = await listInvoices(
     db,
-    { ...query, status, from: dateParam("from"), to: dateParam("to") },
+    { ...query, status, from: dateFilter("from"), to: dateFilter("to") },
     today,
   );
   return { page, today };

@@ -15,6 +15,7 @@ import { verifyCredentials } from "~/models/users.server";
 import { businessToday } from "~/services/clock.server";
 import { db } from "~/services/db.server";
 import { requireCustomer } from "~/services/permissions.server";
+import { readForm } from "~/services/request.server";
 import { destroyUserSession } from "~/services/session.server";
 import { clearFailedSignIns, clientAddress, recordFailedSignIn, signInBlockedMinutes } from "~/services/sign-in-limits.server";
 import type { Route } from "./+types/account";
@@ -31,7 +32,7 @@ type ActionResult = { errors: FieldErrors; confirmation: string };
 
 export async function action({ request }: Route.ActionArgs) {
   const user = await requireCustomer(request);
-  const values = formValues(await request.formData());
+  const values = formValues(await readForm(request));
   const confirmation = typeof values.confirmation === "string" ? values.confirmation : "";
   const refuse = (errors: FieldErrors, status: number) => data<ActionResult>({ errors, confirmation }, { status });
 

@@ -14,6 +14,7 @@ import { listYardsForCustomer } from "~/models/yards.server";
 import { businessToday } from "~/services/clock.server";
 import { db } from "~/services/db.server";
 import { requireCustomer } from "~/services/permissions.server";
+import { readForm } from "~/services/request.server";
 import type { Route } from "./+types/book";
 
 export const meta: Route.MetaFunction = () => [{ title: "Book a treatment · Varroute" }];
@@ -33,7 +34,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export async function action({ request }: Route.ActionArgs) {
   const user = await requireCustomer(request);
-  const values = formValues(await request.formData());
+  const values = formValues(await readForm(request));
   const parsed = bookingSchema.safeParse(bookingInputFromForm(values));
   if (!parsed.success) return data({ errors: fieldErrors(parsed.error), values }, { status: 400 });
   try {

@@ -8,6 +8,7 @@ import { Table, Td, Th } from "~/components/ui/table";
 import { bookingsForCustomer } from "~/models/visits.server";
 import { db } from "~/services/db.server";
 import { requireCustomer } from "~/services/permissions.server";
+import { isCalendarDate } from "~/services/request.server";
 import type { Route } from "./+types/bookings";
 
 export const meta: Route.MetaFunction = () => [{ title: "My bookings · Varroute" }];
@@ -16,7 +17,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   const user = await requireCustomer(request);
   const bookings = await bookingsForCustomer(db, user.customerId);
   const booked = new URL(request.url).searchParams.get("booked");
-  return { bookings, booked: booked && /^\d{4}-\d{2}-\d{2}$/.test(booked) ? booked : null };
+  return { bookings, booked: booked && isCalendarDate(booked) ? booked : null };
 }
 
 const STATUS: Record<string, string> = { requested: "Requested", confirmed: "Confirmed", cancelled: "Cancelled", completed: "Completed" };

@@ -3,18 +3,18 @@ import { formatCents, formatInstant, formatServiceDate } from "~/components/form
 import { buttonClass } from "~/components/ui/button";
 import { Card, PageHeader } from "~/components/ui/card";
 import { Table, Td, Th, MoneyTotalRows } from "~/components/ui/table";
-import { customerInvoice, parsePortalInvoiceId, type PortalInvoiceStatus } from "~/models/portal-invoices.server";
+import { customerInvoice, type PortalInvoiceStatus } from "~/models/portal-invoices.server";
 import { db } from "~/services/db.server";
 import { payLinkToken } from "~/services/pay-link.server";
 import { requireCustomer } from "~/services/permissions.server";
+import { idParam } from "~/services/request.server";
 import type { Route } from "./+types/invoice";
 
 export const meta: Route.MetaFunction = ({ data }) => [{ title: `Invoice ${data?.invoice.number ?? ""} · Varroute` }];
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireCustomer(request);
-  const invoiceId = parsePortalInvoiceId(params.invoiceId);
-  const invoice = invoiceId ? await customerInvoice(db, user.customerId, invoiceId) : null;
+  const invoice = await customerInvoice(db, user.customerId, idParam(params.invoiceId, "invoice"));
   if (!invoice) throw data("There is no such invoice in your account.", { status: 404 });
   // The status comes from the database on every load (a card payment shows once its webhook landed).
   return { invoice, payPath: invoice.payable ? `/pay/${payLinkToken(invoice.invoiceId)}` : null };

@@ -10,13 +10,14 @@ import { loadBusinessSettings } from "~/models/settings.server";
 import { visitReportForCustomer } from "~/models/tallies.server";
 import { db } from "~/services/db.server";
 import { requireCustomer } from "~/services/permissions.server";
+import { idParam } from "~/services/request.server";
 import type { Route } from "./+types/visit-report";
 
 export const meta: Route.MetaFunction = ({ data }) => [{ title: `Visit report: ${data?.report.yardName ?? ""} · Varroute` }];
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireCustomer(request);
-  const report = /^\d+$/.test(params.visitId) ? await visitReportForCustomer(db, { visitId: params.visitId, customerId: user.customerId }) : null;
+  const report = await visitReportForCustomer(db, { visitId: idParam(params.visitId, "visit"), customerId: user.customerId });
   if (!report) throw data("There is no finished visit with that number in your account.", { status: 404 });
   const settings = await loadBusinessSettings(db);
   return { report, unitSystem: settings.unitSystem };

@@ -7,6 +7,7 @@ import { createYard } from "~/models/yard-edit.server";
 import { db } from "~/services/db.server";
 import { mapConfig } from "~/services/env.server";
 import { requireCustomer } from "~/services/permissions.server";
+import { readForm } from "~/services/request.server";
 import type { Route } from "./+types/yard-new";
 
 export const meta: Route.MetaFunction = () => [{ title: "Add a yard · Varroute" }];
@@ -18,7 +19,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export async function action({ request }: Route.ActionArgs) {
   const user = await requireCustomer(request);
-  const values = formValues(await request.formData()) as Record<string, string>;
+  const values = formValues(await readForm(request)) as Record<string, string>;
   const parsed = yardSchema.safeParse(values);
   if (!parsed.success) return data({ errors: fieldErrors(parsed.error), values }, { status: 400 });
   const yardId = await createYard(db, user.customerId, parsed.data, user.id);

@@ -7,13 +7,15 @@ import { getYardForCustomer } from "~/models/yards.server";
 import { businessToday } from "~/services/clock.server";
 import { db } from "~/services/db.server";
 import { requireCustomer } from "~/services/permissions.server";
+import { idParam } from "~/services/request.server";
 import type { Route } from "./+types/yard";
 
 export const meta: Route.MetaFunction = ({ data }) => [{ title: `${data?.yard.name ?? "Yard"} · Varroute` }];
 
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireCustomer(request);
-  const yard = await getYardForCustomer(db, user.customerId, params.yardId, await businessToday(db));
+  // getYardForCustomer takes the id as text; idParam first, so an id past bigint is a 404, not a 500.
+  const yard = await getYardForCustomer(db, user.customerId, String(idParam(params.yardId, "yard")), await businessToday(db));
   return { ...(await yardPageData(db, yard)), saved: new URL(request.url).searchParams.has("saved") };
 }
 
