@@ -3,6 +3,8 @@ import { INVOICE_SORTS, type InvoiceSort, type InvoiceStatusFilter } from "~/for
 export { INVOICE_SORTS, INVOICE_STATUS_FILTERS, type InvoiceSort, type InvoiceStatusFilter } from "~/forms/office-invoice";
 import type { TablePage } from "~/components/data-table/query";
 import type { InvoiceRow } from "./tables";
+import type { Stripe } from "~/services/stripe.server";
+import { expireCheckoutSessions } from "./payments.server";
 
 // The office's invoices table and voiding. One query reads the page of rows, one the count
 // and the totals of everything the filters found. Money in integer cents.
@@ -218,11 +220,14 @@ export class VoidRefused extends Error {
 
 /**
  * Voids an open invoice that has no payments, with a reason (kept on the invoice and in the
- * audit log). A paid, partly paid, refunded or already void invoice is refused.
+ * audit log). A paid, partly paid, refunded or already void invoice is refused. After the
+ * void is committed, the invoice's open Checkout Session is expired; Stripe being unreachable
+ * does not undo the void (the webhook refunds any card payment on a void invoice).
  */
 export async function voidInvoice(
   db: Knex,
   input: { invoiceId: number; reason: string; actorUserId: number },
+  deps: { stripe?: Stripe } = {},
 ): Promise<void> {
   const reason = input.reason.trim();
   if (!reason) throw new VoidRefused("Give a reason for voiding the invoice.");
@@ -260,4 +265,5 @@ export async function voidInvoice(
       after: JSON.stringify({ status: "void", reason }),
     });
   });
+  await expireCheckoutSessions(db, { invoiceId: input.invoiceId, why: "void", actorUserId: input.actorUserId }, deps);
 }

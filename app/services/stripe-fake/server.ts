@@ -9,6 +9,10 @@ import { type FormObject, type FormValue, formRecord, formString, parseStripeFor
 // shapes, serves a hosted test checkout page at /pay/cs_…, and delivers events to the app's
 // webhook URL signed exactly as Stripe signs them:
 //   Stripe-Signature: t=<unix seconds>,v1=<hex HMAC-SHA256(secret, "<t>.<payload>")>
+// Like Stripe, a POST repeated with the same Idempotency-Key and parameters gets the first
+// answer again (Stripe refuses the same key with other parameters; the fake takes that as a
+// new request, because tests empty their database, and so reuse ids in keys, while one fake
+// keeps running). An expired session can no longer be paid, through the API or on the page.
 
 export type FakeCustomer = {
   id: string;
@@ -109,6 +113,8 @@ export type StripeFake = {
   events: FakeEvent[];
   /** Completes a session as the hosted page's Pay button does; returns the event. */
   pay(sessionId: string): Promise<FakeEvent>;
+  /** Expires an open session as POST /v1/checkout/sessions/:id/expire does. */
+  expire(sessionId: string): FakeCheckoutSession;
   /** The Stripe-Signature header for a payload. */
   sign(payload: string, timestamp?: number): string;
   stop(): Promise<void>;
@@ -172,6 +178,8 @@ export async function startStripeFake(options: StripeFakeOptions): Promise<Strip
   const paymentIntents = new Map<string, FakePaymentIntent>();
   const refunds = new Map<string, FakeRefund>();
   const events: FakeEvent[] = [];
+  /** Answers to POSTs sent with an Idempotency-Key, by key. */
+  const idempotent = new Map<string, { request: string; status: number; payload: string }>();
   let baseUrl = "";
 
   const sign = (payload: string, timestamp?: number) => stripeSignatureHeader(payload, options.webhookSecret, timestamp);
@@ -246,6 +254,20 @@ export async function startStripeFake(options: StripeFakeOptions): Promise<Strip
     session.payment_intent = pi.id;
     session.url = null;
     return emit("checkout.session.completed", publicSession(session));
+  }
+
+  function expire(sessionId: string): FakeCheckoutSession {
+    const session = getSession(sessionId);
+    // Stripe's words for a session that is complete or expired already.
+    if (session.status !== "open") {
+      throw new ApiError(400, "invalid_request_error", `Only Checkout Sessions with a status in ["open"] can be expired. This Checkout Session has a status of "${session.status}".`, "checkout_session_not_open");
+    }
+    session.status = "expired";
+    session.url = null;
+    // Like Stripe, the event follows the API answer.
+    const shape = publicSession(session);
+    setImmediate(() => void emit("checkout.session.expired", shape));
+    return session;
   }
 
   // --- API -------------------------------------------------------------------------------
@@ -349,6 +371,19 @@ export async function startStripeFake(options: StripeFakeOptions): Promise<Strip
     return refund;
   }
 
+  /** GET /v1/checkout/sessions: newest first, filtered by payment_intent or customer. */
+  function listSessions(form: FormObject) {
+    const paymentIntent = formString(form, "payment_intent");
+    const customer = formString(form, "customer");
+    const limitText = formString(form, "limit");
+    const limit = limitText === undefined ? 10 : requiredInt(form, "limit", "limit", 1);
+    if (limit > 100) throw new ApiError(400, "invalid_request_error", "This value must be less than or equal to 100.", "parameter_invalid_integer", "limit");
+    const found = [...sessions.values()]
+      .filter((s) => (paymentIntent === undefined || s.payment_intent === paymentIntent) && (customer === undefined || s.customer === customer))
+      .reverse();
+    return { object: "list", data: found.slice(0, limit).map(publicSession), has_more: found.length > limit, url: "/v1/checkout/sessions" };
+  }
+
   async function api(method: string, path: string, form: FormObject): Promise<unknown> {
     let m: RegExpMatchArray | null;
     if (method === "POST" && path === "/v1/customers") return createCustomer(form);
@@ -358,7 +393,9 @@ export async function startStripeFake(options: StripeFakeOptions): Promise<Strip
       return customer;
     }
     if (method === "POST" && path === "/v1/checkout/sessions") return createSession(form);
+    if (method === "GET" && path === "/v1/checkout/sessions") return listSessions(form);
     if (method === "GET" && (m = path.match(/^\/v1\/checkout\/sessions\/([^/]+)$/))) return publicSession(getSession(decodeURIComponent(m[1])));
+    if (method === "POST" && (m = path.match(/^\/v1\/checkout\/sessions\/([^/]+)\/expire$/))) return publicSession(expire(decodeURIComponent(m[1])));
     if (method === "GET" && (m = path.match(/^\/v1\/payment_intents\/([^/]+)$/))) {
       const pi = paymentIntents.get(decodeURIComponent(m[1]));
       if (!pi) throw new ApiError(404, "invalid_request_error", `No such payment_intent: '${m[1]}'`, "resource_missing", "id");
@@ -391,6 +428,10 @@ button:focus-visible,a:focus-visible,input:focus-visible{outline:3px solid #f5a6
 
   function checkoutPage(session: FakeCheckoutSession, error?: string): string {
     const amount = dollars(session.amount_total, session.currency);
+    if (session.status === "expired") {
+      const back = session.cancel_url ? `<p><a href="${escapeHtml(session.cancel_url)}">Return to the merchant</a></p>` : "";
+      return page("Checkout expired", `<h1>This checkout has expired</h1><p>${escapeHtml(session.line_items_description)}: nothing was charged. Start the payment again from the merchant's page.</p>${back}`);
+    }
     if (session.status !== "open") {
       const back = session.success_url ? `<p><a href="${escapeHtml(successUrl(session))}">Return to the merchant</a></p>` : "";
       return page("Payment complete", `<h1>This payment is complete</h1><p>${escapeHtml(session.line_items_description)}: ${amount} paid.</p>${back}`);
@@ -413,6 +454,10 @@ ${session.cancel_url ? `<p><a href="${escapeHtml(session.cancel_url)}">Cancel</a
 
   function successUrl(session: FakeCheckoutSession): string {
     return (session.success_url ?? "/").replaceAll("{CHECKOUT_SESSION_ID}", session.id);
+  }
+
+  function errorPayload(e: ApiError) {
+    return { error: { type: e.type, message: e.message, ...(e.code ? { code: e.code } : {}), ...(e.param ? { param: e.param } : {}) } };
   }
 
   function send(res: ServerResponse, status: number, body: string, type: string, headers: Record<string, string> = {}) {
@@ -438,6 +483,11 @@ ${session.cancel_url ? `<p><a href="${escapeHtml(session.cancel_url)}">Cancel</a
         return 200;
       }
       if (method === "POST") {
+        // An expired session takes no money: the page says so, nothing is charged.
+        if (session.status === "expired") {
+          send(res, 410, checkoutPage(session), "text/html; charset=utf-8");
+          return 410;
+        }
         if (session.status === "open") {
           const card = (new URLSearchParams(body).get("card") ?? "").replace(/\D/g, "");
           if (card === "4000000000000002") {
@@ -469,13 +519,31 @@ ${session.cancel_url ? `<p><a href="${escapeHtml(session.cancel_url)}">Cancel</a
         throw new ApiError(401, "invalid_request_error", key ? `Invalid API Key provided: ${key.slice(0, 8)}***` : "You did not provide an API key.");
       }
       const form = method === "GET" || method === "DELETE" ? parseStripeForm(url.search.slice(1)) : parseStripeForm(body);
-      const result = await api(method, path, form);
-      send(res, 200, JSON.stringify(result), "application/json", { "request-id": stripeId("req") });
-      return 200;
+      const idempotencyKey = method === "POST" ? (req.headers["idempotency-key"] as string | undefined) : undefined;
+      const request = `${method} ${path} ${body}`;
+      if (idempotencyKey) {
+        const first = idempotent.get(idempotencyKey);
+        if (first && first.request === request) {
+          send(res, first.status, first.payload, "application/json", { "request-id": stripeId("req"), "idempotent-replayed": "true" });
+          return first.status;
+        }
+      }
+      let status = 200;
+      let payload: string;
+      try {
+        payload = JSON.stringify(await api(method, path, form));
+      } catch (error) {
+        // Stripe keeps the answer to a key, errors included, except its own server errors.
+        if (!(error instanceof ApiError) || error.status >= 500) throw error;
+        status = error.status;
+        payload = JSON.stringify(errorPayload(error));
+      }
+      if (idempotencyKey) idempotent.set(idempotencyKey, { request, status, payload });
+      send(res, status, payload, "application/json", { "request-id": stripeId("req") });
+      return status;
     } catch (error) {
       const e = error instanceof ApiError ? error : new ApiError(500, "api_error", error instanceof Error ? error.message : String(error));
-      const payload = { error: { type: e.type, message: e.message, ...(e.code ? { code: e.code } : {}), ...(e.param ? { param: e.param } : {}) } };
-      send(res, e.status, JSON.stringify(payload), "application/json", { "request-id": stripeId("req") });
+      send(res, e.status, JSON.stringify(errorPayload(e)), "application/json", { "request-id": stripeId("req") });
       return e.status;
     }
   }
@@ -506,6 +574,7 @@ ${session.cancel_url ? `<p><a href="${escapeHtml(session.cancel_url)}">Cancel</a
     refunds,
     events,
     pay,
+    expire,
     sign,
     stop: () =>
       new Promise<void>((resolve) => {
