@@ -57,7 +57,7 @@ export function auditAreaOf(action: string): AuditArea {
  * refunds, and the invoice status they settle), the system (the worker, the pay link) otherwise.
  */
 export function systemActorName(action: string): "Stripe" | "System" {
-  return action === "payment.card" || action === "refund.card" || action === "invoice.status" ? "Stripe" : "System";
+  return action === "payment.card" || action === "payment.card_refused" || action === "refund.card" || action === "invoice.status" ? "Stripe" : "System";
 }
 
 const ROLE_NAMES: Record<string, string> = {
@@ -92,6 +92,22 @@ function count(value: unknown): number | null {
   if (typeof value === "string" && /^-?\d+(\.\d+)?$/.test(value.trim())) return Number(value);
   return null;
 }
+
+const CHECKOUT_CLOSED_WHY: Record<string, string> = {
+  replaced: "a new checkout replaced it",
+  balance_changed: "the balance changed",
+  void: "the invoice was voided",
+  expired_in_stripe: "it had expired at Stripe",
+  unknown_to_stripe: "Stripe no longer knew it",
+};
+
+const CARD_REFUSED_WHY: Record<string, string> = {
+  no_invoice: "the invoice it named does not exist",
+  unknown_session: "the checkout was not made for this invoice",
+  invoice_not_open: "the invoice took no more payments",
+  currency_mismatch: "it was paid in another currency",
+  over_balance: "it was more than the balance owed",
+};
 
 function money(value: unknown): string | null {
   const cents = count(value);
@@ -368,6 +384,15 @@ const SENTENCES: Record<string, Describe> = {
   "invoice.checkout_session": (f, _b, a) => {
     const amount = money(a.amountCents);
     return `Opened a card checkout${amount ? ` for ${amount}` : ""} on ${invoiceName(f, a)}`;
+  },
+  "invoice.checkout_expired": (f, _b, a) => {
+    const why = CHECKOUT_CLOSED_WHY[text(a.why) ?? ""];
+    return `Closed the card checkout on ${invoiceName(f, a)}${why ? ` (${why})` : ""}`;
+  },
+  "payment.card_refused": (f, _b, a) => {
+    const amount = money(a.amountCents);
+    const reason = CARD_REFUSED_WHY[text(a.reason) ?? ""];
+    return `Refunded ${amount ?? "a card payment"} to the card on ${invoiceName(f, a)}${reason ? `: ${reason}` : ""}`;
   },
   "payment.card": (f, _b, a) => {
     const amount = money(a.amountCents);

@@ -375,6 +375,33 @@ describe("payments", () => {
   });
 });
 
+describe("card checkout guards", () => {
+  it("voiding an invoice with an open checkout: invoice.checkout_expired naming why", async () => {
+    const { invoiceId } = await anInvoice(db, 6_600);
+    const start = await startCardPayment(db, { invoiceId, successUrl: "http://app.test/ok", cancelUrl: "http://app.test/cancel" }, { stripe, webhookSecret: SECRET });
+    const since = await mark();
+    await voidInvoice(db, { invoiceId, reason: "Booked twice", actorUserId: office }, { stripe });
+    const row = await entry(since, "invoice.checkout_expired");
+    expect(row).toMatchObject({ entity_type: "invoice", entity_id: String(invoiceId), actor_user_id: office });
+    expect(row.after).toMatchObject({ stripeCheckoutSessionId: start.sessionId, status: "expired", why: "void" });
+  });
+
+  it("a card payment on a void invoice: payment.card_refused by Stripe with the reason, no payment recorded", async () => {
+    const { invoiceId } = await anInvoice(db, 4_400);
+    const start = await startCardPayment(db, { invoiceId, successUrl: "http://app.test/ok", cancelUrl: "http://app.test/cancel" }, { stripe, webhookSecret: SECRET });
+    const completed = await fake.pay(start.sessionId);
+    // Voided while the customer was paying, before the webhook arrived.
+    await db("invoices").where({ id: invoiceId }).update({ status: "void" });
+    const rawBody = JSON.stringify(completed);
+    const since = await mark();
+    await handleStripeWebhook(db, { rawBody, signature: fake.sign(rawBody) }, { stripe, webhookSecret: SECRET });
+    const row = await entry(since, "payment.card_refused");
+    expect(row).toMatchObject({ entity_type: "invoice", entity_id: String(invoiceId), actor_user_id: null });
+    expect(row.after).toMatchObject({ invoiceId, reason: "invoice_not_open", amountCents: 4_400 });
+    expect(await db("payments").where({ invoice_id: invoiceId })).toHaveLength(0);
+  });
+});
+
 describe("settings", () => {
   it("saving the settings: settings.update by the owner with the values before and after", async () => {
     const form = (changes: Record<string, string>) => ({ ...settingsFormDefaults(defaultBusinessSettings), ...changes });

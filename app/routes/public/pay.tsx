@@ -39,7 +39,9 @@ export async function action({ params }: Route.ActionArgs) {
     const start = await startCardPayment(db, { invoiceId: invoice.invoiceId, successUrl: `${back}?returned=1`, cancelUrl: `${back}?cancelled=1` });
     throw redirect(start.url);
   } catch (error) {
-    if (error instanceof PaymentUnavailable || error instanceof PaymentRefused) return data({ message: error.message }, { status: 503 });
+    if (error instanceof PaymentUnavailable) return data({ message: error.message }, { status: 503 });
+    // Nothing to pay, or a payment already made is still being confirmed.
+    if (error instanceof PaymentRefused) return data({ message: error.message }, { status: 409 });
     throw error;
   }
 }
