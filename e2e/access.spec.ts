@@ -24,6 +24,8 @@ const RULES: Record<string, Rule> = {
   "routes/public/landing.tsx": { outcome: () => "allowed" },
   "routes/public/sign-in.tsx": { outcome: publicForm },
   "routes/public/sign-up.tsx": { outcome: publicForm },
+  // The confirmation link's token is its key; the test's token is not a valid one.
+  "routes/public/sign-up-confirm.tsx": { outcome: () => "not-found" },
   "routes/public/sign-out.tsx": { outcome: () => ({ redirect: "/" }) },
   // The pay link's token is its key; the test's token is not a valid one.
   "routes/public/pay.tsx": { outcome: () => "not-found" },
@@ -36,6 +38,11 @@ const RULES: Record<string, Rule> = {
   "routes/portal/yard-edit.tsx": { outcome: staffOnly("customer") },
   "routes/portal/book.tsx": { outcome: staffOnly("customer") },
   "routes/portal/bookings.tsx": { outcome: staffOnly("customer") },
+  // ids.visit is one of the demo customer's own visits.
+  "routes/portal/booking-change.tsx": { outcome: staffOnly("customer") },
+  "routes/dispatch/crews.tsx": { outcome: staffOnly("dispatcher", "owner") },
+  "routes/dispatch/crew-new.tsx": { outcome: staffOnly("dispatcher", "owner") },
+  "routes/dispatch/crew-edit.tsx": { outcome: staffOnly("dispatcher", "owner") },
   "routes/portal/invoices.tsx": { outcome: staffOnly("customer") },
   // ids.invoice is one of the demo customer's own invoices, with a payment on it.
   "routes/portal/invoice.tsx": { outcome: staffOnly("customer") },
@@ -111,7 +118,7 @@ function allRoutes(entries: RouteConfigEntry[], base = "/"): Page[] {
 
 const ROUTES = allRoutes(routes);
 
-let ids: { ownYard: number; otherYard: number; otherYardName: string; visit: number; attachment: number; otherAttachment: number; run: number; invoice: number };
+let ids: { ownYard: number; otherYard: number; otherYardName: string; visit: number; attachment: number; otherAttachment: number; run: number; invoice: number; crew: number };
 
 // A 1×1 PNG, stored as a photo of the demo customer's yard that is on the demo crew's run.
 const PNG = Buffer.from("89504e470d0a1a0a0000000d4948445200000001000000010806000000" + "1f15c4890000000d49444154789c6360000002000100ffff03000006000557bfabd40000000049454e44ae426082", "hex");
@@ -153,6 +160,7 @@ test.beforeAll(async ({ playwright, baseURL }) => {
      where users.email = $1 and exists (select 1 from payments where payments.invoice_id = invoices.id) order by invoices.id limit 1`,
     [DEMO.customer],
   );
+  const crew = await client.query("select cm.crew_id from crew_members cm join users u on u.id = cm.user_id where u.email = $1 limit 1", [DEMO.crew]);
   await client.end();
   ids = {
     ownYard: Number(own.rows[0].id),
@@ -163,6 +171,7 @@ test.beforeAll(async ({ playwright, baseURL }) => {
     otherAttachment: Number(otherPhoto.rows[0].id),
     run: Number(onRun.rows[0].run_id),
     invoice: Number(invoice.rows[0].id),
+    crew: Number(crew.rows[0].crew_id),
   };
 
   sessions.set("anonymous", await playwright.request.newContext({ baseURL, maxRedirects: 0 }));
@@ -191,6 +200,7 @@ function concrete(path: string): string {
     .replace(":attachmentId", String(ids.attachment))
     .replace(":runId", String(ids.run))
     .replace(":invoiceId", String(ids.invoice))
+    .replace(":crewId", String(ids.crew))
     .replace(":date", "2026-12-08")
     .replace(":token", "not-a-token")
     .replace("*", "no-such-page");
