@@ -7,6 +7,10 @@ ROOT=$(cd "$(dirname "$0")/.." && pwd)
 cd "$ROOT"
 export PG_PORT=${PG_PORT:-54329}
 export PG_BIN=${PG_BIN:-/usr/lib/postgresql/15/bin}
+# Where the private PostgreSQL keeps its data (scripts/pg-root.sh: .pg/ in the project, or
+# a folder the postgres user can reach when running as root in a private home folder).
+PG_ROOT=$(sh "$ROOT/scripts/pg-root.sh" "$ROOT")
+export PG_ROOT
 RUN_DIR=$ROOT/.run
 mkdir -p "$RUN_DIR"
 
@@ -58,7 +62,7 @@ start_postgres() {
   else
     sh scripts/pg.sh start >/dev/null
     STARTED_PG=1
-    say "PostgreSQL started on 127.0.0.1:$PG_PORT (data in .pg/)"
+    say "PostgreSQL started on 127.0.0.1:$PG_PORT (data in $PG_ROOT)"
   fi
   tries=0
   until psql_admin -d postgres -c "select 1" >/dev/null 2>&1; do
