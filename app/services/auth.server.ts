@@ -3,7 +3,7 @@ import { FormStrategy } from "remix-auth-form";
 import { z } from "zod";
 import { findSessionUser, normaliseEmail, verifyCredentials, type SessionUser } from "~/models/users.server";
 import { db } from "./db.server";
-import { clearFailedSignIns, clientAddress, recordFailedSignIn, signInBlockedMinutes } from "./sign-in-limits.server";
+import { checkPasswordWithinLimits, clientAddress, SignInTooSoon, waitText } from "./sign-in-limits.server";
 
 /** A sign-in failure with the field it belongs to, shown next to that field. */
 export class SignInError extends Error {
@@ -20,6 +20,13 @@ export const signInSchema = z.object({
   password: z.string().min(1, "Enter your password."),
 });
 
+function tooSoonMessage(error: SignInTooSoon): string {
+  const wait = waitText(error.waitMs);
+  return error.reason === "network"
+    ? `Too many failed sign-ins from your network. Try again in ${wait}, or ask the office to reset your password.`
+    : `Too many failed sign-ins. Try again in ${wait}, or ask the office to reset your password.`;
+}
+
 export const authenticator = new Authenticator<SessionUser>();
 
 authenticator.use(
@@ -30,20 +37,15 @@ authenticator.use(
       throw new SignInError(issue.message, issue.path[0] === "password" ? "password" : "email");
     }
     const email = normaliseEmail(parsed.data.email);
-    const address = clientAddress(request);
-    const waitMinutes = await signInBlockedMinutes(email, address);
-    if (waitMinutes > 0) {
-      throw new SignInError(
-        `Too many failed sign-ins. Try again in ${waitMinutes} minute${waitMinutes === 1 ? "" : "s"}, or ask the office to reset your password.`,
-        "form",
-      );
+    let userId: string | null;
+    try {
+      // The try is counted before the password is checked (see sign-in-limits.server.ts).
+      userId = await checkPasswordWithinLimits(email, clientAddress(request), () => verifyCredentials(db, email, parsed.data.password));
+    } catch (error) {
+      if (error instanceof SignInTooSoon) throw new SignInError(tooSoonMessage(error), "form");
+      throw error;
     }
-    const userId = await verifyCredentials(db, email, parsed.data.password);
-    if (!userId) {
-      await recordFailedSignIn(email, address);
-      throw new SignInError("That e-mail and password do not match an account.", "password");
-    }
-    await clearFailedSignIns(email);
+    if (!userId) throw new SignInError("That e-mail and password do not match an account.", "password");
     const user = await findSessionUser(db, userId);
     if (!user) throw new SignInError("This account is disabled.", "form");
     return user;
