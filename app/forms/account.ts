@@ -1,5 +1,28 @@
 import { z } from "zod";
 
+// Password length rules, shared by the browser and the server. The server also refuses
+// common and easily guessed passwords (passwordProblem in app/services/password-rules.server.ts),
+// a check kept out of the browser so its word lists are not shipped to every visitor.
+
+export const PASSWORD_MIN_CHARACTERS = 10;
+/** bcrypt reads the first 72 bytes of a password and silently ignores the rest. */
+export const PASSWORD_MAX_BYTES = 72;
+
+/** What is wrong with a new password's length, or null. Characters are counted as a person counts them (an emoji is one). */
+export function passwordLengthProblem(password: string): string | null {
+  if ([...password].length < PASSWORD_MIN_CHARACTERS) return `Use at least ${PASSWORD_MIN_CHARACTERS} characters.`;
+  if (new TextEncoder().encode(password).length > PASSWORD_MAX_BYTES) {
+    return `Keep the password to ${PASSWORD_MAX_BYTES} bytes: letters and digits without accents count 1 each, accented letters 2, emoji 4.`;
+  }
+  return null;
+}
+
+/** A new password: the length rules, as a zod field. */
+export const newPasswordSchema = z.string().superRefine((password, ctx) => {
+  const problem = passwordLengthProblem(password);
+  if (problem) ctx.addIssue({ code: "custom", message: problem });
+});
+
 /** Customer self sign-up; shared by the browser (instant messages) and the server. */
 export const signUpSchema = z
   .object({
@@ -12,7 +35,7 @@ export const signUpSchema = z
       .regex(/^[0-9+()\-. ]*$/, "Use digits, spaces and + ( ) - only.")
       .optional()
       .transform((v) => (v ? v : null)),
-    password: z.string().min(10, "Use at least 10 characters.").max(200, "Use at most 200 characters."),
+    password: newPasswordSchema,
     confirm: z.string(),
   })
   .refine((v) => v.password === v.confirm, { path: ["confirm"], message: "The two passwords differ." });

@@ -1,5 +1,6 @@
 import bcrypt from "bcryptjs";
 import type { Knex } from "knex";
+import { PASSWORD_MAX_BYTES } from "~/forms/account";
 import type { Role, UserRow } from "./tables";
 
 export type SessionUser = Pick<UserRow, "email" | "name" | "role"> & {
@@ -10,7 +11,11 @@ export type SessionUser = Pick<UserRow, "email" | "name" | "role"> & {
 
 const BCRYPT_COST = 10;
 
+/** A bcrypt hash of the password. Refuses a password over 72 bytes, which bcrypt would cut short without a word. */
 export function hashPassword(password: string) {
+  if (Buffer.byteLength(password, "utf8") > PASSWORD_MAX_BYTES) {
+    return Promise.reject(new RangeError(`hashPassword: the password is longer than ${PASSWORD_MAX_BYTES} bytes`));
+  }
   return bcrypt.hash(password, BCRYPT_COST);
 }
 
@@ -63,19 +68,29 @@ export async function createCustomerAccount(
   input: { name: string; email: string; password: string; phone?: string | null },
 ): Promise<string> {
   const passwordHash = await hashPassword(input.password);
-  return db.transaction(async (trx) => {
-    const email = normaliseEmail(input.email);
-    const [user] = await trx("users")
-      .insert({ email, password_hash: passwordHash, role: "customer", name: input.name, phone: input.phone ?? null })
-      .returning("id");
-    await trx("customers").insert({ user_id: user.id, name: input.name, email, phone: input.phone ?? null });
-    await trx("audit_log").insert({
-      actor_user_id: user.id,
-      action: "customer.sign_up",
-      entity_type: "user",
-      entity_id: String(user.id),
-      after: JSON.stringify({ email }),
-    });
-    return String(user.id);
+  return db.transaction((trx) => insertCustomerAccount(trx, { ...input, passwordHash }));
+}
+
+/**
+ * Inserts a customer's sign-in, customer record and audit entry, in the caller's
+ * transaction; the password is hashed already (a confirmed sign-up kept only the hash).
+ * Fails on the unique index when the e-mail has an account.
+ */
+export async function insertCustomerAccount(
+  trx: Knex.Transaction,
+  input: { name: string; email: string; passwordHash: string; phone?: string | null },
+): Promise<string> {
+  const email = normaliseEmail(input.email);
+  const [user] = await trx("users")
+    .insert({ email, password_hash: input.passwordHash, role: "customer", name: input.name, phone: input.phone ?? null })
+    .returning("id");
+  await trx("customers").insert({ user_id: user.id, name: input.name, email, phone: input.phone ?? null });
+  await trx("audit_log").insert({
+    actor_user_id: user.id,
+    action: "customer.sign_up",
+    entity_type: "user",
+    entity_id: String(user.id),
+    after: JSON.stringify({ email }),
   });
+  return String(user.id);
 }
