@@ -4,9 +4,11 @@ import { Button } from "~/components/ui/button";
 import { Field } from "~/components/ui/field";
 import { signUpSchema } from "~/forms/account";
 import { fieldErrors, formValues, type FieldErrors } from "~/forms/field-errors";
-import { createCustomerAccount, emailTaken } from "~/models/users.server";
+import { requestSignUp, SIGN_UP_LINK_HOURS } from "~/models/sign-up-requests.server";
 import { db } from "~/services/db.server";
+import { passwordProblem } from "~/services/password-rules.server";
 import { homeFor, optionalUser } from "~/services/permissions.server";
+import { readForm } from "~/services/request.server";
 import { createUserSession } from "~/services/session.server";
 import type { Route } from "./+types/sign-up";
 
@@ -19,23 +21,21 @@ export async function loader({ request }: Route.LoaderArgs) {
 }
 
 export async function action({ request }: Route.ActionArgs) {
-  const values = formValues(await request.formData());
+  const values = formValues(await readForm(request));
   const parsed = signUpSchema.safeParse(values);
   const kept = { name: values.name, email: values.email, phone: values.phone };
   if (!parsed.success) return data({ errors: fieldErrors(parsed.error), values: kept }, { status: 400 });
-  if (await emailTaken(db, parsed.data.email)) {
-    return data(
-      { errors: { email: "An account with this e-mail already exists. Sign in instead." } as FieldErrors, values: kept },
-      { status: 400 },
-    );
-  }
-  const userId = await createCustomerAccount(db, parsed.data);
-  return createUserSession(request, userId, "/portal");
+  const weak = passwordProblem(parsed.data.password, parsed.data);
+  if (weak) return data({ errors: { password: weak } as FieldErrors, values: kept }, { status: 400 });
+  // The same answer whether or not the address has an account: only its inbox learns which.
+  await requestSignUp(db, parsed.data);
+  return { checkInbox: parsed.data.email, linkHours: SIGN_UP_LINK_HOURS };
 }
 
 export default function SignUp({ actionData }: Route.ComponentProps) {
   const busy = useNavigation().state === "submitting";
   const [clientErrors, setClientErrors] = useState<FieldErrors | null>(null);
+  if (actionData && "checkInbox" in actionData) return <CheckYourInbox email={actionData.checkInbox} linkHours={actionData.linkHours} />;
   const errors = clientErrors ?? actionData?.errors ?? {};
   const kept = actionData?.values as Record<string, string> | undefined;
   return (
@@ -59,16 +59,48 @@ export default function SignUp({ actionData }: Route.ComponentProps) {
         <Field label="Your name" name="name" autoComplete="name" required defaultValue={kept?.name} error={errors.name} />
         <Field label="E-mail" name="email" type="email" autoComplete="email" required defaultValue={kept?.email} error={errors.email} />
         <Field label="Phone (optional)" name="phone" type="tel" autoComplete="tel" defaultValue={kept?.phone} error={errors.phone} hint="The crew calls this number if they cannot find the yard." />
-        <Field label="Password" name="password" type="password" autoComplete="new-password" required error={errors.password} hint="At least 10 characters." />
+        <Field
+          label="Password"
+          name="password"
+          type="password"
+          autoComplete="new-password"
+          required
+          error={errors.password}
+          hint="At least 10 characters, not a common password, and not your name or e-mail. A few words that do not belong together work well."
+        />
         <Field label="Password again" name="confirm" type="password" autoComplete="new-password" required error={errors.confirm} />
         <Button type="submit" disabled={busy}>
-          {busy ? "Creating your account…" : "Create account"}
+          {busy ? "Signing up…" : "Create account"}
         </Button>
       </Form>
       <p className="mt-6">
         Already have an account?{" "}
         <Link to="/sign-in" className="font-semibold text-pine-800 underline">
           Sign in
+        </Link>
+      </p>
+    </div>
+  );
+}
+
+function CheckYourInbox({ email, linkHours }: { email: string; linkHours: number }) {
+  return (
+    <div className="mx-auto max-w-md px-4 py-10">
+      <h1 className="text-3xl font-bold">Check your inbox</h1>
+      <p className="mt-4">
+        We sent an e-mail to <strong className="break-words">{email}</strong>. Follow the link in it within {linkHours} hours to
+        finish creating your account. If this address already has an account, the e-mail says how to sign in instead.
+      </p>
+      <p className="mt-4 text-ink-soft">
+        Nothing arrived after a few minutes? Look in your spam folder, or{" "}
+        <Link to="/sign-up" className="font-semibold text-pine-800 underline">
+          sign up again
+        </Link>
+        .
+      </p>
+      <p className="mt-6">
+        <Link to="/sign-in" className="font-semibold text-pine-800 underline">
+          Go to sign in
         </Link>
       </p>
     </div>
