@@ -523,6 +523,8 @@ export async function deleteCustomerAccount(
         .where({ entity_type: "user", entity_id: String(userId) })
         .update({ before: withoutKeys(trx, "before", ["email"]), after: withoutKeys(trx, "after", ["email"]) });
     }
+    // Pending sign-ups for the address hold a name, phone and password hash.
+    if (customer.email) await trx("sign_up_requests").whereRaw("lower(email) = lower(?)", [customer.email]).delete();
     if (yardIds.length) {
       await trx("audit_log")
         .where({ entity_type: "yard" })

@@ -339,30 +339,3 @@ export async function forgetSignInFailures(email: string): Promise<void> {
     .orWhere("key", "like", `%:email:${e}`)
     .delete();
 }
-
-// The first interface, kept until app/routes/portal/account.tsx moves to
-// checkPasswordWithinLimits: a check and a count that are not one step.
-
-/** @deprecated Not atomic with the count; use checkPasswordWithinLimits. Minutes (rounded up) before a try is allowed. */
-export async function signInBlockedMinutes(email: string, address: string): Promise<number> {
-  const { gates, networks } = await getLimiters();
-  const network = networkOf(address);
-  const [byNetwork, ...byScope] = await Promise.all([networks.get(network), ...scopesOf(email, network).map((scope) => gates.get(scope.key))]);
-  const waits = [
-    byNetwork && byNetwork.consumedPoints > NETWORK_FAILURES ? byNetwork.msBeforeNext : 0,
-    ...byScope.map((gate) => (gate && gate.consumedPoints >= WAITING ? gate.msBeforeNext : 0)),
-  ];
-  return Math.ceil(Math.max(0, ...waits) / 60_000);
-}
-
-/** @deprecated Use checkPasswordWithinLimits. Counts one failed try, as a failed sign-in does. */
-export async function recordFailedSignIn(email: string, address: string): Promise<void> {
-  try {
-    await (await startSignInTry(email, address)).failed();
-  } catch (error) {
-    if (!(error instanceof SignInTooSoon)) throw error;
-  }
-}
-
-/** @deprecated Use forgetSignInFailures. */
-export const clearFailedSignIns = forgetSignInFailures;

@@ -17,7 +17,7 @@ import { db } from "~/services/db.server";
 import { requireCustomer } from "~/services/permissions.server";
 import { readForm } from "~/services/request.server";
 import { destroyUserSession } from "~/services/session.server";
-import { clearFailedSignIns, clientAddress, recordFailedSignIn, signInBlockedMinutes } from "~/services/sign-in-limits.server";
+import { checkPasswordWithinLimits, clientAddress, forgetSignInFailures, SignInTooSoon, waitText } from "~/services/sign-in-limits.server";
 import type { Route } from "./+types/account";
 
 export const meta: Route.MetaFunction = () => [{ title: "Your account · Varroute" }];
@@ -40,13 +40,16 @@ export async function action({ request }: Route.ActionArgs) {
   if (!parsed.success) return refuse(fieldErrors(parsed.error), 400);
 
   // The password is checked like a sign-in, and wrong tries count towards the same limits.
-  const address = clientAddress(request);
-  const wait = await signInBlockedMinutes(user.email, address);
-  if (wait > 0) return refuse({ password: `Too many wrong passwords. Try again in ${wait} minute${wait === 1 ? "" : "s"}.` }, 429);
-  if ((await verifyCredentials(db, user.email, parsed.data.password)) !== user.id) {
-    await recordFailedSignIn(user.email, address);
-    return refuse({ password: "That is not the password of this account." }, 400);
+  let confirmed: true | null;
+  try {
+    confirmed = await checkPasswordWithinLimits(user.email, clientAddress(request), async () =>
+      (await verifyCredentials(db, user.email, parsed.data.password)) === user.id ? true : null,
+    );
+  } catch (error) {
+    if (error instanceof SignInTooSoon) return refuse({ password: `Too many wrong passwords. Try again in ${waitText(error.waitMs)}.` }, 429);
+    throw error;
   }
+  if (!confirmed) return refuse({ password: "That is not the password of this account." }, 400);
 
   try {
     await deleteCustomerAccount(db, { customerId: user.customerId, actorUserId: user.id });
@@ -55,7 +58,7 @@ export async function action({ request }: Route.ActionArgs) {
     throw error;
   }
   // The sign-in limits count failures by e-mail address; that address is gone now.
-  await clearFailedSignIns(user.email);
+  await forgetSignInFailures(user.email);
   return destroyUserSession(request, "/?accountDeleted=1");
 }
 
