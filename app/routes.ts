@@ -10,8 +10,12 @@ export default [
     route("sign-up", "routes/public/sign-up.tsx"),
     route("sign-up/confirm/:token", "routes/public/sign-up-confirm.tsx"),
     route("pay/:token", "routes/public/pay.tsx"),
+    route("forgot-password", "routes/public/forgot-password.tsx"),
+    route("reset-password/:token", "routes/public/reset-password.tsx"),
+    route("invite/:token", "routes/public/invite.tsx"),
   ]),
   route("sign-out", "routes/public/sign-out.tsx"),
+  route("profile", "routes/profile.tsx"),
 
   ...prefix("portal", [
     layout("routes/portal/layout.tsx", [
@@ -67,6 +71,7 @@ export default [
       route("records/pdf", "routes/office/records-pdf.ts"),
       route("dashboard", "routes/office/dashboard.tsx"),
       route("audit", "routes/office/audit.tsx"),
+      route("staff", "routes/office/staff.tsx"),
     ]),
   ]),
 

@@ -27,6 +27,13 @@ const RULES: Record<string, Rule> = {
   // The confirmation link's token is its key; the test's token is not a valid one.
   "routes/public/sign-up-confirm.tsx": { outcome: () => "not-found" },
   "routes/public/sign-out.tsx": { outcome: () => ({ redirect: "/" }) },
+  "routes/public/forgot-password.tsx": { outcome: publicForm },
+  // Reset and invitation links: the token is the key; the test's token is not a valid one.
+  "routes/public/reset-password.tsx": { outcome: () => "not-found" },
+  "routes/public/invite.tsx": { outcome: () => "not-found" },
+  // Every signed-in person has a profile (password, e-mail).
+  "routes/profile.tsx": { outcome: (who) => (who === "anonymous" ? "sign-in" : "allowed") },
+  "routes/office/staff.tsx": { outcome: staffOnly("owner") },
   // The pay link's token is its key; the test's token is not a valid one.
   "routes/public/pay.tsx": { outcome: () => "not-found" },
   // Stripe posts here; a GET is answered 405 for everyone.
