@@ -1,5 +1,5 @@
 import type { Page } from "@playwright/test";
-import { DEMO, expect, signIn, test } from "./fixtures";
+import { DEMO, expect, signIn, signUpAndConfirm, test } from "./fixtures";
 
 // A 1×1 PNG photo.
 const PNG = Buffer.from("89504e470d0a1a0a0000000d49484452000000010000000108060000001f15c4890000000d49444154789c6360000002000100ffff03000006000557bfabd40000000049454e44ae426082", "hex");
@@ -14,14 +14,8 @@ test("a new customer adds a yard on the map, uploads a photo and books a day; th
   const email = `robin.${Date.now()}@example.test`;
   const yardName = `Clover field ${Date.now() % 100000}`;
 
-  // Sign up.
-  await page.goto("/sign-up");
-  await page.getByLabel("Your name").fill("Robin Meadowlark");
-  await page.getByLabel("E-mail").fill(email);
-  await page.getByLabel("Password", { exact: true }).fill("a-long-enough-password");
-  await page.getByLabel("Password again").fill("a-long-enough-password");
-  await page.getByRole("button", { name: "Create account" }).click();
-  await expect(page).toHaveURL(/\/portal$/);
+  // Sign up, confirming the address by the e-mailed link.
+  await signUpAndConfirm(page, { name: "Robin Meadowlark", email, password: "a-long-enough-password" });
 
   // Add a yard by clicking the map.
   await page.getByRole("link", { name: "Add a yard" }).first().click();

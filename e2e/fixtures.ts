@@ -66,3 +66,57 @@ export async function queryTestDatabase<T extends Record<string, unknown>>(sql: 
     await client.end();
   }
 }
+
+const SINK = process.env.MAILDEV_API_URL ?? "http://127.0.0.1:11080";
+
+export type SinkEmail = {
+  id: string;
+  subject: string;
+  text?: string;
+  html?: string;
+  to: { address: string }[];
+  attachments?: { contentType: string; fileName?: string; generatedFileName?: string }[];
+};
+
+/** Every e-mail the local SMTP sink holds for `address`, oldest first. */
+export async function sinkEmailsTo(address: string): Promise<SinkEmail[]> {
+  const all = (await (await fetch(`${SINK}/api/email`)).json()) as SinkEmail[];
+  return all.filter((e) => e.to.some((t) => t.address.toLowerCase() === address.toLowerCase()));
+}
+
+/** Waits (up to 30 s) for an e-mail to `address` whose subject matches, and returns it. */
+export async function waitForEmail(address: string, subject: RegExp): Promise<SinkEmail> {
+  let found: SinkEmail | undefined;
+  await expect
+    .poll(
+      async () => {
+        found = (await sinkEmailsTo(address)).reverse().find((e) => subject.test(e.subject));
+        return found !== undefined;
+      },
+      { timeout: 30_000, message: `an e-mail to ${address} about ${subject}` },
+    )
+    .toBe(true);
+  return found!;
+}
+
+/** The path of the first link in an e-mail's text that starts with `prefix` (e.g. "/sign-up/confirm/"). */
+export function linkPath(email: SinkEmail, prefix: string): string {
+  const escaped = prefix.replace(/[.*+?^${}()|[\]\\]/g, "\\$&");
+  const match = new RegExp(`https?://[^\\s/]+(${escaped}[^\\s)"'<>]+)`).exec(email.text ?? email.html ?? "");
+  if (!match) throw new Error(`no ${prefix} link in the e-mail "${email.subject}"`);
+  return match[1];
+}
+
+/** Fills the sign-up form, follows the e-mailed confirmation link, and ends signed in on /portal. */
+export async function signUpAndConfirm(page: Page, person: { name: string; email: string; password: string }) {
+  await page.goto("/sign-up");
+  await page.getByLabel("Your name").fill(person.name);
+  await page.getByLabel("E-mail").fill(person.email);
+  await page.getByLabel("Password", { exact: true }).fill(person.password);
+  await page.getByLabel("Password again").fill(person.password);
+  await page.getByRole("button", { name: "Create account" }).click();
+  await expect(page.getByRole("heading", { name: "Check your inbox" })).toBeVisible();
+  const email = await waitForEmail(person.email, /Confirm your e-mail/);
+  await page.goto(linkPath(email, "/sign-up/confirm/"));
+  await expect(page).toHaveURL(/\/portal$/);
+}

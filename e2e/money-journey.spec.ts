@@ -1,26 +1,10 @@
-import { DEMO, DEMO_PASSWORD, expect, queryTestDatabase, signIn, test } from "./fixtures";
+import { DEMO, DEMO_PASSWORD, expect, queryTestDatabase, signIn, sinkEmailsTo, test, type SinkEmail } from "./fixtures";
 
 // Runs after the crew journeys (file order): it finishes a later stop of the same run.
 // Money from end to end: the crew finishes a visit; the worker e-mails the invoice with its
 // PDF to the SMTP sink; the customer follows the e-mail's pay link, pays on the fake Stripe
 // checkout page and comes back; the signed webhook marks the invoice paid in the portal and
 // in the office's table; the office refunds the card payment through Stripe.
-
-const SINK = process.env.MAILDEV_API_URL ?? "http://127.0.0.1:11080";
-
-type SinkEmail = {
-  id: string;
-  subject: string;
-  text?: string;
-  html?: string;
-  to: { address: string }[];
-  attachments?: { contentType: string; fileName?: string; generatedFileName?: string }[];
-};
-
-async function sinkEmailsTo(address: string): Promise<SinkEmail[]> {
-  const all = (await (await fetch(`${SINK}/api/email`)).json()) as SinkEmail[];
-  return all.filter((e) => e.to.some((t) => t.address.toLowerCase() === address.toLowerCase()));
-}
 
 type Stop = { visit_id: number; yard_name: string; customer_email: string; colonies: number; status: string };
 
