@@ -16,6 +16,7 @@ export default [
   ]),
   route("sign-out", "routes/public/sign-out.tsx"),
   route("profile", "routes/profile.tsx"),
+  route("profile/email/:token", "routes/profile-email.tsx"),
 
   ...prefix("portal", [
     layout("routes/portal/layout.tsx", [

@@ -33,6 +33,8 @@ const RULES: Record<string, Rule> = {
   "routes/public/invite.tsx": { outcome: () => "not-found" },
   // Every signed-in person has a profile (password, e-mail).
   "routes/profile.tsx": { outcome: (who) => (who === "anonymous" ? "sign-in" : "allowed") },
+  // The e-mail change link's token is its key; the test's token is not a valid one.
+  "routes/profile-email.tsx": { outcome: () => "not-found" },
   "routes/office/staff.tsx": { outcome: staffOnly("owner") },
   // The pay link's token is its key; the test's token is not a valid one.
   "routes/public/pay.tsx": { outcome: () => "not-found" },

@@ -13,18 +13,18 @@ async function expectNoSeriousProblems(page: Page, what: string) {
 }
 
 test("public pages", async ({ page }) => {
-  for (const path of ["/", "/sign-in", "/sign-up", "/no-such-page"]) {
+  for (const path of ["/", "/sign-in", "/sign-up", "/forgot-password", "/no-such-page"]) {
     await page.goto(path);
     await expectNoSeriousProblems(page, path);
   }
 });
 
 const PAGES: Record<DemoRole, string[]> = {
-  owner: ["/dispatch", "/dispatch/settings", "/office", "/office/dashboard", "/office/audit"],
-  dispatcher: ["/dispatch", "/dispatch/settings", "/dispatch/calendar", "/dispatch/map", "/dispatch/customers", "/dispatch/yards"],
-  office: ["/office", "/office/customers", "/office/customers/import", "/office/invoices", "/office/records", "/office/dashboard"],
-  crew: ["/crew"],
-  customer: ["/portal", "/portal/book", "/portal/bookings", "/portal/yards/new", "/portal/invoices", "/portal/season", "/portal/account"],
+  owner: ["/dispatch", "/dispatch/settings", "/office", "/office/dashboard", "/office/audit", "/office/staff", "/profile"],
+  dispatcher: ["/dispatch", "/dispatch/settings", "/dispatch/calendar", "/dispatch/map", "/dispatch/customers", "/dispatch/yards", "/dispatch/crews", "/dispatch/crews/new"],
+  office: ["/office", "/office/customers", "/office/customers/import", "/office/invoices", "/office/records", "/office/dashboard", "/profile"],
+  crew: ["/crew", "/profile"],
+  customer: ["/portal", "/portal/book", "/portal/bookings", "/portal/yards/new", "/portal/invoices", "/portal/season", "/portal/account", "/profile"],
 };
 
 for (const role of Object.keys(PAGES) as DemoRole[]) {

@@ -30,7 +30,7 @@ export const AUDIT_AREA_LABELS: Record<AuditArea, string> = {
  */
 export const AUDIT_AREA_RULES: Record<Exclude<AuditArea, "other">, { actions: readonly string[]; prefixes: readonly string[] }> = {
   bookings: { actions: ["visit.reschedule", "visit.cancel", "visit.next_round", "visit.time_of_day"], prefixes: ["booking.", "course."] },
-  runs: { actions: [], prefixes: ["service_day.", "run.", "stop."] },
+  runs: { actions: [], prefixes: ["service_day.", "run.", "stop.", "crew.", "crew_day."] },
   tallies: { actions: ["visit.supers_off", "visit.finish"], prefixes: ["tally."] },
   invoices: { actions: [], prefixes: ["invoice."] },
   payments: { actions: [], prefixes: ["payment.", "refund."] },
@@ -251,6 +251,29 @@ function grams(value: unknown): string | null {
 
 type Describe = (facts: AuditFacts, before: Json, after: Json) => string;
 
+/** The crew form's fields in words, for "Changed the crew …: hours, weekdays". */
+const CREW_FIELD_NAMES: Record<string, string> = {
+  name: "name",
+  memberIds: "members",
+  startLabel: "start point",
+  start: "start point",
+  endLabel: "end point",
+  end: "end point",
+  workStart: "hours",
+  workEnd: "hours",
+  vaporizers: "vaporizers",
+  maxColoniesPerDay: "most colonies a day",
+  maxDoseGramsPerDay: "most grams a day",
+  workingWeekdays: "weekdays",
+  active: "active",
+};
+
+/** ", moving 3 visits to other days" when a working-day change moved visits. */
+function movedText(moved: unknown): string {
+  const n = Array.isArray(moved) ? moved.length : 0;
+  return n > 0 ? `, moving ${plural(n, "visit")} to other days` : "";
+}
+
 const SENTENCES: Record<string, Describe> = {
   "booking.create": (_f, _b, a) => {
     const colonies = count(a.colonies);
@@ -451,6 +474,81 @@ const SENTENCES: Record<string, Describe> = {
     return `Signed up for a customer account${email ? ` as ${email}` : ""}`;
   },
   "customer.delete": () => "Deleted the customer's account",
+  "crew.create": (_f, _b, a) => {
+    const name = text(a.name);
+    return `Added the crew${name ? ` ${name}` : ""}${a.active === false ? " (inactive)" : ""}`;
+  },
+  "crew.update": (_f, b, a) => {
+    const name = text(a.name) ?? text(b.name);
+    const crew = `the crew${name ? ` ${name}` : ""}`;
+    if (b.active === true && a.active === false) return `Set ${crew} inactive`;
+    if (b.active === false && a.active === true) return `Set ${crew} active again`;
+    const changed = [...new Set(changedKeys(b, a).map((k) => CREW_FIELD_NAMES[k] ?? humanise(k).toLowerCase()))];
+    return changed.length > 0 ? `Changed ${crew}: ${changed.join(", ")}` : `Saved ${crew} without changes`;
+  },
+  "service_day.close": (f, _b, a) => withReason(`Closed ${formatAuditDay(f.entityId) ?? "the day"}${movedText(a.moved)}`, a.note),
+  "service_day.reopen": (f) => `Reopened ${formatAuditDay(f.entityId) ?? "the day"}`,
+  "service_day.capacity": (f, b, a) => {
+    const day = formatAuditDay(f.entityId) ?? "the day";
+    const to = count(a.capacity);
+    const from = count(b.capacity);
+    const sentence =
+      to === null
+        ? `Set ${day} back to the crews' estimate${from !== null ? ` (was ${plural(from, "colony", "colonies")})` : ""}`
+        : `Set the capacity of ${day} to ${plural(to, "colony", "colonies")}${from !== null ? ` (was ${from})` : ""}`;
+    return withReason(`${sentence}${movedText(a.moved)}`, a.note);
+  },
+  "crew_day.close": (f, _b, a) => withReason(`Closed ${text(a.crewName) ?? "a crew"}'s day on ${formatAuditDay(f.entityId) ?? "the day"}${movedText(a.moved)}`, a.note),
+  "crew_day.reopen": (f, _b, a) => `Reopened ${text(a.crewName) ?? "a crew"}'s day on ${formatAuditDay(f.entityId) ?? "the day"}`,
+  "user.profile": (_f, b, a) => {
+    const changed = changedKeys(b, a).map((k) => (k === "name" ? "name" : k === "phone" ? "phone number" : humanise(k).toLowerCase()));
+    return changed.length ? `Changed their ${changed.join(" and ")} on their profile` : "Saved their profile";
+  },
+  "user.password_change": (_f, _b, a) => {
+    const ended = count(a.otherSessionsEnded);
+    const sentence = "Changed their password on their profile";
+    return ended !== null && ended > 0 ? `${sentence}, signing out ${plural(ended, "other session")}` : sentence;
+  },
+  "user.password_reset": () => "Reset their password with a link e-mailed to them",
+  "user.email_change": (_f, b, a) => {
+    const from = text(b.email);
+    const to = text(a.email);
+    return `Changed their e-mail address${from ? ` from ${from}` : ""}${to ? ` to ${to}` : ""}, confirmed by a link sent to the new address`;
+  },
+  "staff.invite": (_f, _b, a) => {
+    const who = text(a.name) ?? text(a.email) ?? "someone";
+    const email = text(a.name) ? text(a.email) : null;
+    const role = text(a.role);
+    return `Invited ${who}${email ? ` (${email})` : ""} to join the staff${role ? ` as ${roleName(role).toLowerCase()}` : ""}`;
+  },
+  "staff.invite_resent": (_f, _b, a) => {
+    const email = text(a.email);
+    return `Sent the staff invitation${email ? ` to ${email}` : ""} again, with a new link`;
+  },
+  "staff.invite_revoked": (_f, _b, a) => {
+    const email = text(a.email);
+    return `Withdrew the staff invitation${email ? ` to ${email}` : ""}`;
+  },
+  "staff.invite_accepted": (_f, _b, a) => {
+    const role = text(a.role);
+    return `Accepted the staff invitation and joined${role ? ` as ${roleName(role).toLowerCase()}` : ""}`;
+  },
+  "staff.role": (_f, b, a) => {
+    const who = text(a.name) ?? text(b.name);
+    const from = text(b.role);
+    const to = text(a.role);
+    return `Changed ${who ? `${who}'s` : "a staff"} role${from ? ` from ${roleName(from).toLowerCase()}` : ""}${to ? ` to ${roleName(to).toLowerCase()}` : ""}`;
+  },
+  "staff.deactivate": (_f, b, a) => {
+    const who = text(a.name) ?? text(b.name);
+    const ended = count(a.sessionsEnded);
+    const sentence = `Deactivated ${who ? `${who}'s` : "a staff"} account`;
+    return ended !== null && ended > 0 ? `${sentence} and signed them out of ${plural(ended, "session")}` : sentence;
+  },
+  "staff.reactivate": (_f, b, a) => {
+    const who = text(a.name) ?? text(b.name);
+    return `Reactivated ${who ? `${who}'s` : "a staff"} account`;
+  },
 };
 
 /** A plain sentence for an audit entry, e.g. "Recorded a cheque payment of $40.00 on invoice 2026-0012". */
@@ -519,6 +617,8 @@ export function auditEntityLink(entityType: string, entityId: string, facts: Aud
     }
     case "service_day":
       return { label: `Day ${formatAuditDay(id) ?? id}`, href: dayHref(id) };
+    case "crew":
+      return { label: facts.crewName ? `Crew ${facts.crewName}` : `Crew #${id}`, href: numeric ? `/dispatch/crews/${id}` : null };
     case "settings":
       return { label: "Business settings", href: "/dispatch/settings" };
     case "user":

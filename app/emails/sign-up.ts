@@ -33,7 +33,7 @@ export function signUpConfirmEmail(input: { name: string; confirmUrl: string; va
 }
 
 /** To an address that has an account already: sign in or have the password reset; no link that makes anything. */
-export function signUpAccountExistsEmail(input: { name: string; signInUrl: string }): EmailContent {
+export function signUpAccountExistsEmail(input: { name: string; signInUrl: string; resetUrl: string }): EmailContent {
   return renderEmail({
     subject: "You already have a Varroute account",
     preheader: "Sign in with this e-mail address.",
@@ -42,7 +42,7 @@ export function signUpAccountExistsEmail(input: { name: string; signInUrl: strin
       greeting(input.name),
       { kind: "paragraph", text: "Someone, probably you, asked to create a Varroute account with this e-mail address. You already have one, so nothing new was made." },
       { kind: "button", label: "Sign in", href: input.signInUrl },
-      { kind: "paragraph", text: "Forgotten your password? Ask the office to reset it." },
+      { kind: "paragraph", text: `Forgotten your password? Ask for a new one at ${input.resetUrl}` },
       { kind: "paragraph", text: "Did not try to sign up? Then ignore this e-mail: nothing has changed on your account." },
     ],
     footer: FOOTER,

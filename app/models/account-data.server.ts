@@ -518,10 +518,14 @@ export async function deleteCustomerAccount(
           updated_at: trx.fn.now() as unknown as Date,
         });
       await endUserSessions(trx, userId);
-      // Earlier audit entries that quoted their e-mail address.
+      // Open reset and e-mail-change links (a pending change holds the new address).
+      await trx("password_resets").where({ user_id: userId }).delete();
+      await trx("email_changes").where({ user_id: userId }).delete();
+      // Earlier audit entries that quoted their e-mail address, name or phone (profile changes).
+      const personal = ["email", "name", "phone"];
       await trx("audit_log")
         .where({ entity_type: "user", entity_id: String(userId) })
-        .update({ before: withoutKeys(trx, "before", ["email"]), after: withoutKeys(trx, "after", ["email"]) });
+        .update({ before: withoutKeys(trx, "before", personal), after: withoutKeys(trx, "after", personal) });
     }
     // Pending sign-ups for the address hold a name, phone and password hash.
     if (customer.email) await trx("sign_up_requests").whereRaw("lower(email) = lower(?)", [customer.email]).delete();

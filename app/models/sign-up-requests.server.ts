@@ -56,7 +56,7 @@ export async function requestSignUp(db: Knex, input: SignUpInput, options: { now
       return queueEmail(trx, {
         kind: "sign_up_account_exists",
         to: email,
-        ...signUpAccountExistsEmail({ name: user.name, signInUrl: `${appUrl}/sign-in` }),
+        ...signUpAccountExistsEmail({ name: user.name, signInUrl: `${appUrl}/sign-in`, resetUrl: `${appUrl}/forgot-password` }),
         customerId: customer?.id ?? null,
         // At most one an hour, however often the form is sent with this address.
         dedupeKey: `sign_up_account_exists:${user.id}:${now.toISOString().slice(0, 13)}`,

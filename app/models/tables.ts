@@ -78,6 +78,23 @@ export interface CrewRow extends Stamps {
   work_end: string;
   vaporizers: number;
   active: boolean;
+  /** ISO weekdays the crew works: 1 = Monday … 7 = Sunday. */
+  working_weekdays: number[];
+  /** The most colonies the crew treats in a day (null: no limit of its own). */
+  max_colonies_per_day: number | null;
+  /** The most grams of oxalic acid dihydrate the crew applies in a day (null: no limit). */
+  max_dose_grams_per_day: number | null;
+}
+
+/** One crew's service day closed by the dispatcher (working-days.server.ts); closed false once reopened. */
+export interface CrewDayRow {
+  crew_id: Id;
+  service_date: string;
+  closed: boolean;
+  note: string | null;
+  updated_by: Id | null;
+  created_at: Date;
+  updated_at: Date;
 }
 
 export interface CrewMemberRow {
@@ -361,6 +378,46 @@ export interface SignUpRequestRow {
   used_at: Date | null;
 }
 
+/** An invitation for a new member of staff (staff.server.ts); `token_hash` is the SHA-256 (hex) of the link's token. */
+export interface StaffInvitationRow {
+  id: Id;
+  token_hash: string;
+  email: string;
+  name: string;
+  role: Exclude<Role, "customer">;
+  /** The crew a crew member joins on accepting (null: none chosen, or not crew). */
+  crew_id: Id | null;
+  invited_by: Id | null;
+  created_at: Date;
+  expires_at: Date;
+  accepted_at: Date | null;
+  revoked_at: Date | null;
+}
+
+/** A "forgot password" link (password-resets.server.ts); `token_hash` is the SHA-256 (hex) of the link's token. */
+export interface PasswordResetRow {
+  id: Id;
+  token_hash: string;
+  user_id: Id;
+  created_at: Date;
+  expires_at: Date;
+  used_at: Date | null;
+  /** The client address that asked for the link. */
+  requested_from: string | null;
+}
+
+/** A link that makes `new_email` the account's address when followed (profile.server.ts). */
+export interface EmailChangeRow {
+  id: Id;
+  token_hash: string;
+  user_id: Id;
+  new_email: string;
+  created_at: Date;
+  expires_at: Date;
+  used_at: Date | null;
+  requested_from: string | null;
+}
+
 declare module "knex/types/tables" {
   interface Tables {
     users: UserRow;
@@ -369,6 +426,7 @@ declare module "knex/types/tables" {
     colonies: ColonyRow;
     crews: CrewRow;
     crew_members: CrewMemberRow;
+    crew_days: CrewDayRow;
     bookings: BookingRow;
     courses: CourseRow;
     visits: VisitRow;
@@ -391,5 +449,8 @@ declare module "knex/types/tables" {
     card_payment_refusals: CardPaymentRefusalRow;
     sessions: SessionRow;
     sign_up_requests: SignUpRequestRow;
+    password_resets: PasswordResetRow;
+    email_changes: EmailChangeRow;
+    staff_invitations: StaffInvitationRow;
   }
 }

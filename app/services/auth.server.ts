@@ -23,8 +23,8 @@ export const signInSchema = z.object({
 function tooSoonMessage(error: SignInTooSoon): string {
   const wait = waitText(error.waitMs);
   return error.reason === "network"
-    ? `Too many failed sign-ins from your network. Try again in ${wait}, or ask the office to reset your password.`
-    : `Too many failed sign-ins. Try again in ${wait}, or ask the office to reset your password.`;
+    ? `Too many failed sign-ins from your network. Try again in ${wait}, or use “Forgot your password?” below.`
+    : `Too many failed sign-ins. Try again in ${wait}, or use “Forgot your password?” below.`;
 }
 
 export const authenticator = new Authenticator<SessionUser>();

@@ -92,7 +92,7 @@ describe("slowing down instead of locking out", () => {
     for (let failure = 5; failure < 16; failure++) {
       const refused = await signInFrom(peer, ROBIN.email, ROBIN.password);
       expect(refused).toMatchObject({ field: "form" });
-      const wait = /Try again in (\d+) (second|minute)s?, or ask the office to reset your password\./.exec((refused as { message: string }).message);
+      const wait = /Try again in (\d+) (second|minute)s?, or use “Forgot your password\?” below\./.exec((refused as { message: string }).message);
       expect(wait, (refused as { message: string }).message).not.toBeNull();
       waits.push(`${wait![1]} ${wait![2]}`);
       // Once the wait is over, a try is checked again.

@@ -1,5 +1,6 @@
 import { Outlet } from "react-router";
 import { AppShell } from "~/components/app-shell";
+import { crewNav } from "~/components/area-nav";
 import { AREA_ROLES, requireRole } from "~/services/permissions.server";
 import type { Route } from "./+types/layout";
 
@@ -10,7 +11,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export default function CrewLayout({ loaderData }: Route.ComponentProps) {
   return (
-    <AppShell user={loaderData.user} nav={[{ to: "/crew", label: "Today's run", end: true }]} width="narrow">
+    <AppShell user={loaderData.user} nav={crewNav()} width="narrow">
       <Outlet />
     </AppShell>
   );

@@ -1,5 +1,6 @@
 import { Outlet } from "react-router";
 import { AppShell } from "~/components/app-shell";
+import { dispatchNav } from "~/components/area-nav";
 import { AREA_ROLES, requireRole } from "~/services/permissions.server";
 import type { Route } from "./+types/layout";
 
@@ -7,16 +8,6 @@ export async function loader({ request }: Route.LoaderArgs) {
   const user = await requireRole(request, AREA_ROLES.dispatch);
   return { user: { name: user.name, role: user.role } };
 }
-
-const dispatchNav = (role: string) => [
-  { to: "/dispatch", label: "Days ahead", end: true },
-  { to: "/dispatch/calendar", label: "Calendar" },
-  { to: "/dispatch/map", label: "Map" },
-  { to: "/dispatch/customers", label: "Customers" },
-  { to: "/dispatch/yards", label: "Yards" },
-  { to: "/dispatch/settings", label: "Settings" },
-  ...(role === "owner" ? [{ to: "/office", label: "Office" }] : []),
-];
 
 export default function DispatchLayout({ loaderData }: Route.ComponentProps) {
   return (

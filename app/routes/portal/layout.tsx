@@ -1,5 +1,6 @@
 import { Outlet } from "react-router";
 import { AppShell } from "~/components/app-shell";
+import { portalNav } from "~/components/area-nav";
 import { requireCustomer } from "~/services/permissions.server";
 import type { Route } from "./+types/layout";
 
@@ -10,14 +11,7 @@ export async function loader({ request }: Route.LoaderArgs) {
 
 export default function PortalLayout({ loaderData }: Route.ComponentProps) {
   return (
-    <AppShell user={loaderData.user} nav={[
-        { to: "/portal", label: "My yards and visits", end: true },
-        { to: "/portal/book", label: "Book a treatment" },
-        { to: "/portal/bookings", label: "My bookings" },
-        { to: "/portal/invoices", label: "Invoices" },
-        { to: "/portal/season", label: "Season report" },
-        { to: "/portal/account", label: "Account" },
-      ]}>
+    <AppShell user={loaderData.user} nav={portalNav()}>
       <Outlet />
     </AppShell>
   );

@@ -56,6 +56,11 @@ export default function SignIn({ loaderData, actionData }: Route.ComponentProps)
           {busy ? "Signing in…" : "Sign in"}
         </Button>
       </Form>
+      <p className="mt-4">
+        <Link to="/forgot-password" className="font-semibold text-pine-800 underline">
+          Forgot your password?
+        </Link>
+      </p>
       <p className="mt-6">
         New customer?{" "}
         <Link to="/sign-up" className="font-semibold text-pine-800 underline">
