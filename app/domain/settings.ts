@@ -46,6 +46,13 @@ function isKnownTimeZone(timeZone: string): boolean {
   }
 }
 
+const EMAIL_ADDRESS = /^[^\s@<>]+@[^\s@<>]+\.[^\s@<>]+$/;
+
+/** Empty, or a phone number as people write it: digits with spaces, +, (, ), - and dots. */
+function isPhoneNumber(value: string): boolean {
+  return value === "" || (/^[0-9+().\-\s]+$/.test(value) && /\d/.test(value));
+}
+
 /** One seasonal action threshold (months 1–12, both included; may run over the year end). */
 export const miteThresholdSchema = z.object({
   fromMonth: wholeNumberField("the first month", 1, 12),
@@ -83,6 +90,20 @@ export const businessSettingsSchema = z
       .trim()
       .max(300, { error: "The business address must be at most 300 characters." })
       .default(""),
+    // Whom a customer calls when changes have closed (portal booking pages); empty: not shown.
+    businessPhone: z
+      .string({ error: "Enter the business phone number." })
+      .trim()
+      .max(40, { error: "The phone number must be at most 40 characters." })
+      .refine(isPhoneNumber, { error: "Enter the phone number with digits, spaces and + ( ) - . only." })
+      .default(""),
+    contactEmail: z
+      .string({ error: "Enter the contact e-mail address." })
+      .trim()
+      .max(200, { error: "The contact e-mail address must be at most 200 characters." })
+      .refine((value) => value === "" || EMAIL_ADDRESS.test(value), { error: "Enter an e-mail address such as office@example.com." })
+      .default(""),
+    customerChangeCutoffHours: wholeNumberField("the change cut-off", 0, 336, "hours").default(48),
 
     doseGramsPerBroodBox: numberField("the dose per brood box", 0.01, 10, "g").default(1),
     labelMaximumGramsPerBroodBox: numberField("the label maximum per brood box", 0.01, 10, "g").default(1),
@@ -346,6 +367,22 @@ export const settingsFieldInfo: Record<keyof BusinessSettings, SettingsFieldInfo
     label: "Business address",
     unit: "",
     explanation: "Postal address printed under the name on invoices, receipts and reports.",
+  },
+  businessPhone: {
+    label: "Business phone",
+    unit: "",
+    explanation: "The number customers call about a visit once they can no longer change it in the portal.",
+  },
+  contactEmail: {
+    label: "Contact e-mail",
+    unit: "",
+    explanation: "The address customers write to about a visit once they can no longer change it in the portal.",
+  },
+  customerChangeCutoffHours: {
+    label: "Customer changes close",
+    unit: "hours",
+    explanation:
+      "Customers may move or cancel a visit in the portal until this many hours before its day begins in the business time zone; after that they call or write.",
   },
   timeZone: {
     label: "Business time zone",

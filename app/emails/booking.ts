@@ -120,7 +120,10 @@ export function visitReminderEmail(input: {
   });
 }
 
-/** Sent when a visit moves to another day. */
+/** A later round of a course that moved along with the visit the customer moved. */
+export type MovedRound = { roundNumber: number; fromDate: string; toDate: string };
+
+/** Sent when a visit moves to another day (by the dispatcher, or by the customer in the portal). */
 export function visitRescheduledEmail(input: {
   customerName: string;
   yardName: string;
@@ -129,12 +132,24 @@ export function visitRescheduledEmail(input: {
   toDate: string;
   reason?: string | null;
   portalUrl: string;
+  /** Set when the customer moved it themselves: the e-mail confirms their change. */
+  byCustomer?: boolean;
+  roundNumber?: number;
+  /** Later rounds of the course moved with it, to keep their spacing. */
+  laterRounds?: readonly MovedRound[];
 }): EmailContent {
   const from = formatServiceDate(input.fromDate);
   const to = formatServiceDate(input.toDate);
+  const round = input.roundNumber ? ` (round ${input.roundNumber})` : "";
+  const later = input.laterRounds ?? [];
   const blocks: EmailBlock[] = [
     greeting(input.customerName),
-    { kind: "paragraph", text: `The treatment visit for ${input.yardName} has moved from ${from} to ${to}.` },
+    {
+      kind: "paragraph",
+      text: input.byCustomer
+        ? `As you asked, the treatment visit${round} for ${input.yardName} has moved from ${from} to ${to}.`
+        : `The treatment visit for ${input.yardName} has moved from ${from} to ${to}.`,
+    },
     {
       kind: "details",
       rows: [
@@ -145,6 +160,12 @@ export function visitRescheduledEmail(input: {
       ],
     },
   ];
+  if (later.length > 0) {
+    blocks.push(
+      { kind: "paragraph", text: "The later rounds of the course moved with it, so the rounds stay the same number of days apart:" },
+      { kind: "list", items: later.map((r) => `Round ${r.roundNumber}: ${formatServiceDate(r.fromDate)} → ${formatServiceDate(r.toDate)}`) },
+    );
+  }
   if (input.reason?.trim()) blocks.push({ kind: "paragraph", text: `Reason: ${input.reason.trim()}` });
   blocks.push(
     { kind: "note", title: "Before the new date", items: PREPARE_ITEMS },
@@ -158,18 +179,30 @@ export function visitRescheduledEmail(input: {
   });
 }
 
-/** Sent when a booking is cancelled. */
+/** Sent when a booking is cancelled (by the business, or by the customer in the portal). */
 export function bookingCancelledEmail(input: {
   customerName: string;
   yardName: string;
   serviceDate: string;
   reason?: string | null;
   portalUrl: string;
+  /** Set when the customer cancelled it themselves: the e-mail confirms their change. */
+  byCustomer?: boolean;
+  roundNumber?: number;
+  /** Later rounds of the course cancelled with it. */
+  laterRounds?: readonly { roundNumber: number; date: string }[];
 }): EmailContent {
   const date = formatServiceDate(input.serviceDate);
+  const round = input.roundNumber ? ` (round ${input.roundNumber})` : "";
+  const later = input.laterRounds ?? [];
   const blocks: EmailBlock[] = [
     greeting(input.customerName),
-    { kind: "paragraph", text: `Your treatment visit for ${input.yardName} on ${date} is cancelled.` },
+    {
+      kind: "paragraph",
+      text: input.byCustomer
+        ? `As you asked, your treatment visit${round} for ${input.yardName} on ${date} is cancelled, with the rest of its course.`
+        : `Your treatment visit for ${input.yardName} on ${date} is cancelled.`,
+    },
     {
       kind: "details",
       rows: [
@@ -178,6 +211,12 @@ export function bookingCancelledEmail(input: {
       ],
     },
   ];
+  if (later.length > 0) {
+    blocks.push(
+      { kind: "paragraph", text: "These later rounds of the course are cancelled too:" },
+      { kind: "list", items: later.map((r) => `Round ${r.roundNumber}: ${formatServiceDate(r.date)}`) },
+    );
+  }
   if (input.reason?.trim()) blocks.push({ kind: "paragraph", text: `Reason: ${input.reason.trim()}` });
   blocks.push(
     { kind: "paragraph", text: "Your colonies may still need treatment against Varroa. You can book another day in your portal." },

@@ -6,7 +6,7 @@ import type { BusinessSettings } from "~/domain/settings";
 // answers "Enter … as a number" at that field.
 
 export const MONEY_FIELDS = ["pricePerColonyCents", "tripFeeCents", "minimumPerVisitCents"] as const;
-export const TEXT_FIELDS = ["businessName", "businessAddress", "unitSystem", "productName", "productRegistrationNumber", "timeZone"] as const;
+export const TEXT_FIELDS = ["businessName", "businessAddress", "businessPhone", "contactEmail", "unitSystem", "productName", "productRegistrationNumber", "timeZone"] as const;
 
 function toNumber(value: unknown): number {
   if (typeof value !== "string" || value.trim() === "") return Number.NaN;

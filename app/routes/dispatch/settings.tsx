@@ -48,7 +48,8 @@ function usHint(settings: BusinessSettings, key: string, value: string): string 
 
 type Section = { title: string; fields: (keyof BusinessSettings | "taxRatePercent")[] };
 const SECTIONS: Section[] = [
-  { title: "Business", fields: ["businessName", "businessAddress"] },
+  { title: "Business", fields: ["businessName", "businessAddress", "businessPhone", "contactEmail"] },
+  { title: "Customer bookings", fields: ["customerChangeCutoffHours"] },
   { title: "Units and time", fields: ["unitSystem", "timeZone"] },
   { title: "Product and dose", fields: ["productName", "productRegistrationNumber", "labelMaximumGramsPerBroodBox", "doseGramsPerBroodBox"] },
   { title: "Treatment course", fields: ["roundsWithBrood", "roundIntervalDays"] },
@@ -88,7 +89,7 @@ export default function Settings({ loaderData, actionData }: Route.ComponentProp
           options={[{ value: "metric", label: "Metric (g, °C, km)" }, { value: "us", label: "US (oz, °F, miles)" }]} />
       );
     }
-    const isText = key === "productName" || key === "productRegistrationNumber" || key === "timeZone" || key === "businessName" || key === "businessAddress";
+    const isText = key === "productName" || key === "productRegistrationNumber" || key === "timeZone" || key === "businessName" || key === "businessAddress" || key === "businessPhone" || key === "contactEmail";
     const isMoney = key === "pricePerColonyCents" || key === "tripFeeCents" || key === "minimumPerVisitCents";
     return (
       <SettingField
