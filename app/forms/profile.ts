@@ -56,3 +56,6 @@ export const emailChangeSchema = z.object({
 export function profileIntentOf(value: unknown): ProfileIntent | null {
   return typeof value === "string" && (PROFILE_INTENTS as readonly string[]).includes(value) ? (value as ProfileIntent) : null;
 }
+
+/** How long a password reset link works, in minutes. */
+export const RESET_LINK_MINUTES = 60;

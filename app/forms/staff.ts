@@ -111,3 +111,6 @@ export function readStaffQuery(params: URLSearchParams): StaffQuery {
     dir: pick(params.get("dir"), ["asc", "desc"], STAFF_QUERY_DEFAULTS.dir),
   };
 }
+
+/** How long an invitation link works, in days. */
+export const INVITATION_DAYS = 7;

@@ -19,7 +19,9 @@ import { hashPassword, normaliseEmail } from "./users.server";
 // and at most 10 per client network an hour (the rest are refused with a wait).
 
 /** How long a reset link works. */
-export const RESET_LINK_MINUTES = 60;
+import { RESET_LINK_MINUTES } from "~/forms/profile";
+
+export { RESET_LINK_MINUTES };
 /** Requests per e-mail address an hour that may send a link. */
 const LINKS_PER_EMAIL_PER_HOUR = 3;
 /** Requests per client network (IPv4 address, IPv6 /64) an hour, over every address. */

@@ -22,7 +22,9 @@ import { hashPassword, normaliseEmail } from "./users.server";
 // owners demoting each other at the same moment are applied one after the other, and the
 // second is refused.
 
-export const INVITATION_DAYS = 7;
+import { INVITATION_DAYS } from "~/forms/staff";
+
+export { INVITATION_DAYS };
 const DAY_MS = 24 * 60 * 60 * 1000;
 const PURPOSE = "varroute:staff-invitation:v1";
 const STAFF_LOCK = "varroute:staff-accounts";

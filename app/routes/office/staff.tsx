@@ -17,13 +17,13 @@ import {
   STAFF_STATUSES,
   staffActionSchema,
   type StaffRole,
+  INVITATION_DAYS,
 } from "~/forms/staff";
 import { loadBusinessSettings } from "~/models/settings.server";
 import {
   changeStaffRole,
   crewChoices,
   deactivateStaff,
-  INVITATION_DAYS,
   inviteStaff,
   listStaff,
   reactivateStaff,
