@@ -104,7 +104,7 @@ describe("sign-up answers", () => {
     expect(already.subject).toBe("You already have a Varroute account");
     expect(already.text).toContain("Hello Sam Comb,");
     expect(already.text).toContain("/sign-in");
-    expect(already.text).toMatch(/reset/);
+    expect(already.text).toMatch(/\/forgot-password/);
     expect(already.text).not.toMatch(/sign-up\/confirm/);
     expect(already.html).not.toMatch(/sign-up\/confirm/);
   });
