@@ -437,6 +437,11 @@ interface DemoCrew {
   startLabel: string;
   start: LatLng;
   vaporizers: number;
+  /** ISO weekdays worked (1 = Monday … 7 = Sunday). */
+  workingWeekdays: number[];
+  /** Daily limits (null: none). */
+  maxColoniesPerDay: number | null;
+  maxDoseGramsPerDay: number | null;
   members: DemoUser[];
   id?: number;
 }
@@ -712,6 +717,10 @@ export function buildDemoPlan(today: string): DemoPlan {
       startLabel: `${DEMO_BUSINESS_NAME} shop, 12 Kiln Lane, Ithaca`,
       start: { lat: 42.428, lng: -76.478 },
       vaporizers: 2,
+      // The owner's own crew also takes Saturdays in the short treatment season.
+      workingWeekdays: [1, 2, 3, 4, 5, 6],
+      maxColoniesPerDay: null,
+      maxDoseGramsPerDay: null,
       members: [crewUsers[0], crewUsers[1]],
     },
     {
@@ -719,6 +728,11 @@ export function buildDemoPlan(today: string): DemoPlan {
       startLabel: `${DEMO_BUSINESS_NAME} lock-up, 5 Mill Pond Rd, Dryden`,
       start: { lat: 42.486, lng: -76.301 },
       vaporizers: 1,
+      // Weekdays only, and no more colonies than one vaporizer's crew works through in a long
+      // day (a generous ceiling: the working hours bind first).
+      workingWeekdays: [1, 2, 3, 4, 5],
+      maxColoniesPerDay: 60,
+      maxDoseGramsPerDay: null,
       members: [crewUsers[2], crewUsers[3]],
     },
   ];
@@ -1333,6 +1347,9 @@ async function writePlan(trx: Knex.Transaction, plan: DemoPlan): Promise<void> {
       work_start: "08:00",
       work_end: "17:00",
       vaporizers: crew.vaporizers,
+      working_weekdays: crew.workingWeekdays,
+      max_colonies_per_day: crew.maxColoniesPerDay,
+      max_dose_grams_per_day: crew.maxDoseGramsPerDay,
       active: true,
       ...stamps(at(addDays(today, -400), 9)),
     });

@@ -34,7 +34,7 @@ export const AUDIT_AREA_RULES: Record<Exclude<AuditArea, "other">, { actions: re
   tallies: { actions: ["visit.supers_off", "visit.finish"], prefixes: ["tally."] },
   invoices: { actions: [], prefixes: ["invoice."] },
   payments: { actions: [], prefixes: ["payment.", "refund."] },
-  settings: { actions: [], prefixes: ["settings."] },
+  settings: { actions: [], prefixes: ["settings.", "business.", "staff."] },
   customers: { actions: [], prefixes: ["customer.", "customers.", "yard.", "colony.", "user."] },
 };
 
@@ -255,6 +255,7 @@ type Describe = (facts: AuditFacts, before: Json, after: Json) => string;
 const CREW_FIELD_NAMES: Record<string, string> = {
   name: "name",
   memberIds: "members",
+  active: "active",
   startLabel: "start point",
   start: "start point",
   endLabel: "end point",
@@ -262,10 +263,9 @@ const CREW_FIELD_NAMES: Record<string, string> = {
   workStart: "hours",
   workEnd: "hours",
   vaporizers: "vaporizers",
+  workingWeekdays: "weekdays",
   maxColoniesPerDay: "most colonies a day",
   maxDoseGramsPerDay: "most grams a day",
-  workingWeekdays: "weekdays",
-  active: "active",
 };
 
 /** ", moving 3 visits to other days" when a working-day change moved visits. */
@@ -408,6 +408,11 @@ const SENTENCES: Record<string, Describe> = {
     const amount = money(a.amountCents);
     return `Opened a card checkout${amount ? ` for ${amount}` : ""} on ${invoiceName(f, a)}`;
   },
+  "business.setup": (_f, _b, a) => {
+    const name = text(a.businessName);
+    const owner = text(a.ownerEmail);
+    return `Set up the business${name ? ` ${name}` : ""} and made the owner account${owner ? ` ${owner}` : ""}`;
+  },
   "invoice.checkout_expired": (f, _b, a) => {
     const why = CHECKOUT_CLOSED_WHY[text(a.why) ?? ""];
     return `Closed the card checkout on ${invoiceName(f, a)}${why ? ` (${why})` : ""}`;
@@ -483,7 +488,10 @@ const SENTENCES: Record<string, Describe> = {
     const crew = `the crew${name ? ` ${name}` : ""}`;
     if (b.active === true && a.active === false) return `Set ${crew} inactive`;
     if (b.active === false && a.active === true) return `Set ${crew} active again`;
-    const changed = [...new Set(changedKeys(b, a).map((k) => CREW_FIELD_NAMES[k] ?? humanise(k).toLowerCase()))];
+    // In the form's order (stored entries come back with their keys in the database's order).
+    const order = Object.keys(CREW_FIELD_NAMES);
+    const keys = changedKeys(b, a).sort((x, y) => (order.indexOf(x) + 1 || 99) - (order.indexOf(y) + 1 || 99));
+    const changed = [...new Set(keys.map((k) => CREW_FIELD_NAMES[k] ?? humanise(k).toLowerCase()))];
     return changed.length > 0 ? `Changed ${crew}: ${changed.join(", ")}` : `Saved ${crew} without changes`;
   },
   "service_day.close": (f, _b, a) => withReason(`Closed ${formatAuditDay(f.entityId) ?? "the day"}${movedText(a.moved)}`, a.note),

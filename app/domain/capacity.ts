@@ -8,22 +8,106 @@
  * yards, with one more drive back at the end of the day. Leftover time takes a smaller
  * yard if one fits. The route planner later uses real drive times and may defer what
  * does not fit after all; the estimate errs on the side of what a crew can really do.
+ *
+ * A crew may have limits of its own per day: at most so many colonies, and at most so many
+ * grams of oxalic acid dihydrate. Its estimate is capped at them; the gram limit is turned
+ * into colonies with the business's dose per brood box at one brood box per colony (the
+ * least dose a colony takes: a booking does not say how many boxes each colony has; the
+ * planner, which knows them, holds the crew to its grams exactly).
+ *
+ * Which crews count on a date: active crews whose working weekdays include the date's
+ * weekday and whose own day is not closed; none when the whole day is closed.
  */
+import { doseGramsForColony, gramsToCentigrams } from "./dose";
 import { serviceMinutesForYard, type HiveCycle } from "./service-time";
 
 export interface CapacitySettings extends HiveCycle {
   setupMinutes: number;
   typicalColoniesPerYard: number;
   averageDriveMinutesBetweenYards: number;
+  /** Grams per brood box; needed only to turn a crew's gram limit into colonies. */
+  doseGramsPerBroodBox?: number;
 }
 
 export interface CrewForCapacity {
   workMinutes: number;
   vaporizers: number;
+  /** The most colonies the crew treats in a day (null or absent: no limit). */
+  maxColoniesPerDay?: number | null;
+  /** The most grams the crew applies in a day (null or absent: no limit). */
+  maxDoseGramsPerDay?: number | null;
 }
 
-/** Colonies one crew can treat in its working day, by the estimate above. */
+// ---------------------------------------------------------------------------------------
+// Weekdays
+
+/** ISO weekdays, Monday first: number (1 = Monday … 7 = Sunday), short and long name. */
+export const WEEKDAYS = [
+  { day: 1, short: "Mon", name: "Monday" },
+  { day: 2, short: "Tue", name: "Tuesday" },
+  { day: 3, short: "Wed", name: "Wednesday" },
+  { day: 4, short: "Thu", name: "Thursday" },
+  { day: 5, short: "Fri", name: "Friday" },
+  { day: 6, short: "Sat", name: "Saturday" },
+  { day: 7, short: "Sun", name: "Sunday" },
+] as const;
+
+/** ISO weekday (1 = Monday … 7 = Sunday) of a YYYY-MM-DD date, counted in UTC so no zone shifts it. */
+export function isoWeekdayOf(isoDate: string): number {
+  const match = /^(\d{4})-(\d{2})-(\d{2})$/.exec(isoDate);
+  if (!match) throw new RangeError(`expected a date YYYY-MM-DD, got ${JSON.stringify(isoDate)}`);
+  const day = new Date(Date.UTC(Number(match[1]), Number(match[2]) - 1, Number(match[3]))).getUTCDay();
+  return day === 0 ? 7 : day;
+}
+
+/** "Mon–Fri", "Mon–Sat", "Mon, Wed, Fri", "Every day", "No day" for a set of ISO weekdays. */
+export function weekdaysLabel(days: readonly number[]): string {
+  const set = [...new Set(days)].filter((d) => d >= 1 && d <= 7).sort((a, b) => a - b);
+  if (set.length === 7) return "Every day";
+  if (set.length === 0) return "No day";
+  const consecutive = set.every((d, i) => i === 0 || d === set[i - 1] + 1);
+  const short = (d: number) => WEEKDAYS[d - 1].short;
+  if (consecutive && set.length >= 3) return `${short(set[0])}–${short(set.at(-1)!)}`;
+  return set.map(short).join(", ");
+}
+
+/** What decides whether a crew works on a date. */
+export interface CrewCalendar {
+  active: boolean;
+  /** ISO weekdays the crew works. */
+  workingWeekdays: readonly number[];
+}
+
+/** Whether a crew works on a date: active, on one of its weekdays, its own day not closed, the whole day not closed. */
+export function crewWorksOn(crew: CrewCalendar, isoDate: string, closures: { dayClosed: boolean; crewDayClosed: boolean }): boolean {
+  if (!crew.active || closures.dayClosed || closures.crewDayClosed) return false;
+  return crew.workingWeekdays.includes(isoWeekdayOf(isoDate));
+}
+
+// ---------------------------------------------------------------------------------------
+// Capacity
+
+/**
+ * The most colonies a crew's own limits allow in a day (Infinity without limits): its colony
+ * limit, and its gram limit over the dose of a one-brood-box colony.
+ */
+export function crewColonyLimit(crew: Pick<CrewForCapacity, "maxColoniesPerDay" | "maxDoseGramsPerDay">, doseGramsPerBroodBox: number | undefined): number {
+  let limit = Infinity;
+  if (crew.maxColoniesPerDay != null) limit = Math.max(0, Math.floor(crew.maxColoniesPerDay));
+  if (crew.maxDoseGramsPerDay != null && doseGramsPerBroodBox != null && doseGramsPerBroodBox > 0) {
+    // In whole centigrams, as doses are kept (dose.ts), so 10 g ÷ 1 g is 10, never 9.999….
+    const perColony = gramsToCentigrams(doseGramsForColony(1, doseGramsPerBroodBox));
+    if (perColony > 0) limit = Math.min(limit, Math.floor(gramsToCentigrams(crew.maxDoseGramsPerDay) / perColony));
+  }
+  return limit;
+}
+
+/** Colonies one crew can treat in its working day: the estimate above, capped at its own limits. */
 export function crewDayCapacityColonies(crew: CrewForCapacity, settings: CapacitySettings): number {
+  return Math.min(crewDayEstimate(crew, settings), crewColonyLimit(crew, settings.doseGramsPerBroodBox));
+}
+
+function crewDayEstimate(crew: CrewForCapacity, settings: CapacitySettings): number {
   if (!Number.isFinite(crew.workMinutes) || crew.workMinutes <= 0) return 0;
   const drive = settings.averageDriveMinutesBetweenYards;
   let minutesLeft = crew.workMinutes - drive; // the drive home at the end of the day
@@ -49,14 +133,55 @@ export interface ServiceDayState {
   closed: boolean;
 }
 
-/** Colonies the whole day can take: the dispatcher's figure, or the crews' estimates added up. */
+/**
+ * Colonies the whole day can take, from the crews working that day: the dispatcher's figure
+ * (never above what the crews' own limits allow together), or the crews' estimates added up.
+ * A figure set for a day no crew works stands as set: the dispatcher may be about to add one.
+ */
 export function dayCapacityColonies(crews: readonly CrewForCapacity[], settings: CapacitySettings, day?: ServiceDayState): number {
   if (day?.closed) return 0;
-  if (day?.capacityOverride != null) return day.capacityOverride;
+  if (day?.capacityOverride != null) {
+    if (crews.length === 0) return day.capacityOverride;
+    const limits = crews.reduce((sum, crew) => sum + crewColonyLimit(crew, settings.doseGramsPerBroodBox), 0);
+    return Math.min(day.capacityOverride, limits);
+  }
   return crews.reduce((sum, crew) => sum + crewDayCapacityColonies(crew, settings), 0);
 }
 
 /** Colonies that still fit on a day (never below 0). */
 export function coloniesStillFitting(capacity: number, booked: number): number {
   return Math.max(0, capacity - booked);
+}
+
+// ---------------------------------------------------------------------------------------
+// A day that lost room
+
+/** A visit on a day whose room shrank: its colonies, and whether it may be moved to another day. */
+export interface VisitTakingRoom {
+  id: number;
+  colonies: number;
+  /** False for a visit under way or done, or one that must stay for another reason. */
+  movable: boolean;
+}
+
+/**
+ * Which visits stay on a day of `capacity` colonies and which must move: visits that cannot
+ * move stay first; the others stay in the order given (booking order: first booked, first
+ * kept) as long as they still fit, and move otherwise. A later, smaller visit may stay where
+ * an earlier, bigger one did not fit.
+ */
+export function visitsBeyondCapacity(capacity: number, visits: readonly VisitTakingRoom[]): { stay: number[]; move: number[] } {
+  let taken = visits.filter((v) => !v.movable).reduce((sum, v) => sum + v.colonies, 0);
+  const stay = visits.filter((v) => !v.movable).map((v) => v.id);
+  const move: number[] = [];
+  for (const visit of visits) {
+    if (!visit.movable) continue;
+    if (taken + visit.colonies <= capacity) {
+      taken += visit.colonies;
+      stay.push(visit.id);
+    } else {
+      move.push(visit.id);
+    }
+  }
+  return { stay, move };
 }

@@ -1,7 +1,7 @@
 import type { Knex } from "knex";
 import { formatServiceDate } from "~/components/format";
 import { addCalendarDays, calendarDaysBetween, isIsoDate } from "~/domain/courses";
-import { doseGramsForRun, doseGramsForYard } from "~/domain/dose";
+import { doseGramsForRun, doseGramsForYard, gramsToCentigrams } from "~/domain/dose";
 import { planDay, recomputeTimes, type CrewRun, type PlanCrew, type PlanVisit, type TimeWindow, type TravelMatrix } from "~/domain/planner";
 import { serviceMinutesForYard } from "~/domain/service-time";
 import type { BusinessSettings } from "~/domain/settings";
@@ -13,7 +13,7 @@ import { dateInZone } from "~/services/clock.server";
 import { serverEnv } from "~/services/env.server";
 import { requestEmailDelivery } from "~/services/jobs.server";
 import { travelMatrixWithFallback, type TravelOptions, type TravelProviderName } from "~/services/travel.server";
-import { roomBetween } from "./capacity.server";
+import { crewIdsWorkingOn, roomBetween } from "./capacity.server";
 import { queueEmail } from "./emails.server";
 import { loadBusinessSettings } from "./settings.server";
 import type { RunRow, TimePreference } from "./tables";
@@ -37,12 +37,18 @@ import { rescheduleVisit, VisitChangeRefused } from "./visit-changes.server";
 // version raised by one, and the summary says it must be published again. Runs under way
 // or done are never changed. Every change takes a per-day advisory lock, so two
 // dispatchers re-planning the same day queue up instead of interleaving.
+//
+// Crews: the day is planned with the crews working that day — active, on one of their
+// weekdays, their own day not closed, the whole day not closed — the same crews the booking
+// capacity counts (capacity.server.ts crewIdsWorkingOn). A crew's daily limits (colonies,
+// grams) are hard rules: the planner never exceeds them, and a stop is never moved onto a
+// crew's run past them.
 
 /** A change the dispatcher asked for that cannot be made. */
 export class DayPlanRefused extends Error {
   constructor(
     message: string,
-    readonly code: "bad_date" | "no_visit" | "no_crew" | "run_under_way" | "no_run" | "no_stops" | "no_stop",
+    readonly code: "bad_date" | "no_visit" | "no_crew" | "run_under_way" | "no_run" | "no_stops" | "no_stop" | "over_limit",
   ) {
     super(message);
     this.name = "DayPlanRefused";
@@ -72,6 +78,9 @@ export type DayCrew = {
   workEndMin: number;
   vaporizers: number;
   active: boolean;
+  /** The crew's daily limits (null: none). */
+  maxColoniesPerDay: number | null;
+  maxDoseGramsPerDay: number | null;
   members: { userId: number; name: string; email: string }[];
 };
 
@@ -192,6 +201,8 @@ type CrewQueryRow = {
   work_end: string;
   vaporizers: number;
   active: boolean;
+  max_colonies_per_day: number | null;
+  max_dose_grams_per_day: number | null;
 };
 
 type VisitQueryRow = {
@@ -252,6 +263,8 @@ function toDayCrew(row: CrewQueryRow, members: DayCrew["members"]): DayCrew {
     workEndMin,
     vaporizers: row.vaporizers,
     active: row.active,
+    maxColoniesPerDay: row.max_colonies_per_day == null ? null : Number(row.max_colonies_per_day),
+    maxDoseGramsPerDay: row.max_dose_grams_per_day == null ? null : Number(row.max_dose_grams_per_day),
     members,
   };
 }
@@ -275,6 +288,7 @@ type LoadedDay = {
   settings: BusinessSettings;
   /** Active crews, and the crews of the day's runs. */
   crews: Map<number, DayCrew>;
+  /** The crews working that day (see the note at the top), by name. */
   activeCrews: DayCrew[];
   visits: DayVisit[];
   runs: RunQueryRow[];
@@ -309,7 +323,8 @@ async function loadDay(db: Knex, date: string, settings: BusinessSettings, lock:
     const members = memberRows.filter((m) => Number(m.crew_id) === Number(row.id)).map((m) => ({ userId: Number(m.id), name: m.name, email: m.email }));
     crews.set(Number(row.id), toDayCrew(row, members));
   }
-  const activeCrews = [...crews.values()].filter((c) => c.active);
+  const working = new Set(await crewIdsWorkingOn(db, date));
+  const activeCrews = [...crews.values()].filter((c) => c.active && working.has(c.crewId));
 
   const runIds = runRows.map((r) => Number(r.id));
   let query = db("visits")
@@ -521,7 +536,8 @@ function runUnderWay(day: LoadedDay, run: RunQueryRow): boolean {
   );
 }
 
-async function lockServiceDay(trx: Knex.Transaction, date: string): Promise<void> {
+/** Takes the day's planning lock for the transaction: planning, moving stops, publishing and working-day changes queue on it. */
+export async function lockServiceDay(trx: Knex.Transaction, date: string): Promise<void> {
   await trx.raw("select pg_advisory_xact_lock(hashtext(?))", [`varroute:service-day:${date}`]);
 }
 
@@ -560,6 +576,8 @@ function planCrew(crew: DayCrew, points: PointIndex): PlanCrew {
     endIndex: points.add(crew.end),
     workStartMin: crew.workStartMin,
     workEndMin: crew.workEndMin,
+    maxColonies: crew.maxColoniesPerDay,
+    maxDoseGrams: crew.maxDoseGramsPerDay,
   };
 }
 
@@ -571,6 +589,7 @@ function planVisit(visit: DayVisit, settings: BusinessSettings, vaporizers: numb
     serviceMinutes: serviceMinutes(settings, visit.colonies, vaporizers),
     window: visit.window,
     bookedAt: visit.bookedAt,
+    doseGrams: visit.grams,
     ...(locked ? { locked } : {}),
   };
 }
@@ -609,6 +628,19 @@ function timedStops(run: CrewRun, date: string, timeZone: string, locked: (visit
       locked: locked(visitId),
     };
   });
+}
+
+/** Why these visits break the crew's daily limits (a sentence), or null when they keep them. */
+function crewLimitProblem(crew: DayCrew, visits: readonly DayVisit[]): string | null {
+  const colonies = visits.reduce((sum, v) => sum + v.colonies, 0);
+  if (crew.maxColoniesPerDay != null && colonies > crew.maxColoniesPerDay) {
+    return `${crew.name} treats at most ${crew.maxColoniesPerDay} colonies a day; with this stop the run would have ${colonies}. Move another stop off the run first, or choose another crew.`;
+  }
+  const grams = doseGramsForRun(visits.map((v) => v.grams));
+  if (crew.maxDoseGramsPerDay != null && gramsToCentigrams(grams) > gramsToCentigrams(crew.maxDoseGramsPerDay)) {
+    return `${crew.name} applies at most ${crew.maxDoseGramsPerDay} g a day; with this stop the run would need ${grams} g. Move another stop off the run first, or choose another crew.`;
+  }
+  return null;
 }
 
 /** A crew's run re-timed in a given order with its own vaporizers (nothing re-planned). */
@@ -957,7 +989,7 @@ export async function moveStop(
     const visit = day.visits.find((v) => v.visitId === Number(input.visitId));
     if (!visit) throw new DayPlanRefused("That visit is not open on this day.", "no_visit");
     const toCrew = day.activeCrews.find((c) => c.crewId === Number(input.toCrewId));
-    if (!toCrew) throw new DayPlanRefused("That crew is not working; choose an active crew.", "no_crew");
+    if (!toCrew) throw new DayPlanRefused("That crew is not working that day; choose a crew that works it.", "no_crew");
     const runOf = (crewId: number) => day.runs.find((r) => Number(r.crew_id) === crewId) ?? null;
     const fromRun = visit.stop ? (day.runs.find((r) => Number(r.id) === visit.stop!.runId) ?? null) : null;
     const toRun = runOf(toCrew.crewId);
@@ -975,6 +1007,8 @@ export async function moveStop(
     const at = Math.max(0, Math.min(target.length, Math.trunc(Number(input.toPosition) || 0)));
     target.splice(at, 0, visit.visitId);
     orders.set(toCrew.crewId, target);
+    const overLimit = crewLimitProblem(toCrew, target.map((id) => day.visitsById.get(id)!));
+    if (overLimit) throw new DayPlanRefused(overLimit, "over_limit");
 
     const points = new PointIndex();
     for (const crewId of orders.keys()) {

@@ -418,6 +418,13 @@ export interface EmailChangeRow {
   requested_from: string | null;
 }
 
+/** The one row saying the business was set up (setup.server.ts): by the setup page, or an owner who existed before it. */
+export interface BusinessSetupRow {
+  id: true;
+  completed_at: Date;
+  owner_user_id: Id | null;
+}
+
 declare module "knex/types/tables" {
   interface Tables {
     users: UserRow;
@@ -452,5 +459,6 @@ declare module "knex/types/tables" {
     password_resets: PasswordResetRow;
     email_changes: EmailChangeRow;
     staff_invitations: StaffInvitationRow;
+    business_setup: BusinessSetupRow;
   }
 }

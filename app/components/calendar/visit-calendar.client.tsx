@@ -5,6 +5,7 @@ import type { EventDropArg, EventInput, EventSourceFuncArg } from "@fullcalendar
 import { useEffect, useMemo, useRef, useState } from "react";
 import { useFetcher, useNavigate } from "react-router";
 import type { CalendarVisit } from "~/models/visits.server";
+import type { WorkingDayState } from "~/models/working-days.server";
 
 export const STATUS_STYLE: Record<string, { label: string; colour: string; text: string }> = {
   scheduled: { label: "Scheduled", colour: "#175a43", text: "#ffffff" },
@@ -20,8 +21,38 @@ function iso(date: Date) {
 
 type ActionAnswer = { ok: boolean; errors: Record<string, string | undefined> };
 
-/** Every visit on a month or week calendar, filtered by crew and status; drag a visit to move it. */
-export default function VisitCalendar({ crews, initialDate }: { crews: { id: number; name: string }[]; initialDate: string }) {
+const MONTHS = ["January", "February", "March", "April", "May", "June", "July", "August", "September", "October", "November", "December"];
+
+/** A day's working state in a few words for its cell: closed, crews off, colonies booked of the room. */
+function dayNote(day: WorkingDayState | undefined): { text: string; tone: "closed" | "full" | "open" } | null {
+  if (!day) return null;
+  if (day.dayClosed) return { text: "Closed", tone: "closed" };
+  if (day.capacity === 0) return { text: day.crewsWorking === 0 ? "No crew" : "No room", tone: "closed" };
+  const off = day.closedCrews.length ? ` · ${day.closedCrews.join(", ")} off` : "";
+  return { text: `${day.booked}/${day.capacity} col.${off}`, tone: day.booked >= day.capacity ? "full" : "open" };
+}
+
+/**
+ * Every visit on a month or week calendar, filtered by crew and status; drag a visit to move
+ * it. Each day cell shows its working state (closed, crews off, colonies booked of its room)
+ * and selects the day for the working-day panel beside the calendar.
+ */
+export default function VisitCalendar({
+  crews,
+  initialDate,
+  selectedDate = null,
+  dayStates = [],
+  refreshKey = "",
+}: {
+  crews: { id: number; name: string }[];
+  initialDate: string;
+  /** The day shown in the working-day panel. */
+  selectedDate?: string | null;
+  /** Working-day states the page loaded (more are fetched as the calendar moves). */
+  dayStates?: WorkingDayState[];
+  /** Changes when a working-day change moved visits: events and states are fetched again. */
+  refreshKey?: string;
+}) {
   const [crew, setCrew] = useState("all");
   const [status, setStatus] = useState("open");
   const [message, setMessage] = useState<{ tone: "error" | "info"; text: string } | null>(null);
@@ -29,6 +60,21 @@ export default function VisitCalendar({ crews, initialDate }: { crews: { id: num
   const pendingRevert = useRef<(() => void) | null>(null);
   const fetcher = useFetcher<ActionAnswer>();
   const navigate = useNavigate();
+  const states = useFetcher<{ days: WorkingDayState[] }>();
+  const range = useRef<{ from: string; to: string } | null>(null);
+  const stateByDate = useMemo(() => {
+    const map = new Map<string, WorkingDayState>();
+    for (const day of dayStates) map.set(day.date, day);
+    for (const day of states.data?.days ?? []) map.set(day.date, day);
+    return map;
+  }, [dayStates, states.data]);
+
+  useEffect(() => {
+    if (!refreshKey) return;
+    calendar.current?.getApi().refetchEvents();
+    if (range.current) states.load(`/dispatch/calendar?from=${range.current.from}&to=${range.current.to}`);
+    // Only a new refreshKey asks again (the fetcher object changes with every load).
+  }, [refreshKey]);
 
   useEffect(() => {
     if (fetcher.state !== "idle" || !fetcher.data) return;
@@ -140,6 +186,44 @@ export default function VisitCalendar({ crews, initialDate }: { crews: { id: num
         dayMaxEvents={false}
         events={source}
         eventDrop={onDrop}
+        datesSet={(info) => {
+          const end = new Date(info.end);
+          end.setDate(end.getDate() - 1);
+          const next = { from: iso(info.start), to: iso(end) };
+          if (range.current?.from === next.from && range.current?.to === next.to) return;
+          range.current = next;
+          states.load(`/dispatch/calendar?from=${next.from}&to=${next.to}`);
+        }}
+        dayCellClassNames={(arg) => {
+          const date = iso(arg.date);
+          const classes: string[] = [];
+          if (date === selectedDate) classes.push("vr-day-selected");
+          const note = dayNote(stateByDate.get(date));
+          if (note?.tone === "closed") classes.push("bg-paper");
+          return classes;
+        }}
+        dayCellContent={(arg) => {
+          const date = iso(arg.date);
+          const note = dayNote(stateByDate.get(date));
+          const selected = date === selectedDate;
+          return (
+            <button
+              type="button"
+              className="vr-day-button"
+              aria-pressed={selected}
+              onClick={() => navigate(`/dispatch/calendar?date=${date}`, { preventScrollReset: true })}
+            >
+              <span className="vr-day-number">{arg.dayNumberText}</span>
+              <span className="sr-only"> {MONTHS[arg.date.getMonth()]}, show this day</span>
+              {note ? (
+                <span className={`vr-day-room block ${selected ? "" : note.tone === "closed" ? "!text-alarm-700" : note.tone === "full" ? "!text-ochre-700" : ""}`}>
+                  {note.text}
+                  {note.tone !== "closed" ? <span className="sr-only"> booked of the room</span> : null}
+                </span>
+              ) : null}
+            </button>
+          );
+        }}
         eventClick={(arg) => {
           arg.jsEvent.preventDefault();
           navigate(`/dispatch/visits/${arg.event.id}`);

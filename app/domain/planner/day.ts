@@ -5,9 +5,10 @@
  * possible (seconds, return to the end point included); then, between otherwise equal
  * plans, serve the earliest booking. Hard rules, never broken: service starts at or after
  * its window start and ends by its window end; each crew leaves its start point no earlier
- * than workStartMin and is back at its end point by workEndMin; locked visits stay with
- * their crew in their locked order (only if the locked stops cannot all be kept on time is
- * one deferred).
+ * than workStartMin and is back at its end point by workEndMin; a crew never serves more
+ * colonies or grams in the day than its daily limits; locked visits stay with their crew in
+ * their locked order (only if the locked stops cannot all be kept on time and within the
+ * crew's limits is one deferred). What does not fit is deferred with the reason.
  *
  * Method: up to exactMaxVisits plannable visits (default 12), the whole day is solved
  * exactly (exact.ts). Above, insertion + local search + ruin-and-recreate (heuristic.ts),
@@ -17,8 +18,8 @@
 
 import { bestOrder, EXACT_DAY_HARD_LIMIT, EXACT_ROUTE_MAX, solveCrewsExact } from "./exact";
 import { solveDayHeuristic } from "./heuristic";
-import { buildProblem, type Problem, TIME_EPS } from "./problem";
-import { buildRun, fitsAlone, routeCost, stopTimes } from "./schedule";
+import { buildProblem, loadFits, loadOf, type Problem, TIME_EPS } from "./problem";
+import { buildRun, fitsAlone, routeCost, routeTimingCost, stopTimes } from "./schedule";
 import type {
   DayPlan,
   DeferredVisit,
@@ -63,7 +64,9 @@ export function planDay(input: PlanDayInput): DayPlan {
         any = true;
       }
     }
-    if (!any) defer(v, "outside_every_window", outsideMessage(p, v));
+    if (any) continue;
+    if (overEveryLimit(p, v)) defer(v, "does_not_fit_day", overLimitMessage(p, v));
+    else defer(v, "outside_every_window", outsideMessage(p, v));
   }
 
   // 2. Each crew's locked visits, in locked order, as far as they fit together (taken by
@@ -77,12 +80,16 @@ export function planDay(input: PlanDayInput): DayPlan {
     for (const v of locked) {
       const withV = lockedOrder(p, c, [...kept, v]);
       if (withV) kept = withV;
-      else
+      else {
+        const load = loadOf(p, [...kept, v]);
         defer(
           v,
           "does_not_fit_day",
-          `Visit ${p.visits[v].id} is locked to crew ${p.crews[c].id}, but it cannot be kept on time together with that crew's locked stops before it.`,
+          loadFits(p, c, load.colonies, load.centigrams)
+            ? `Visit ${p.visits[v].id} is locked to crew ${p.crews[c].id}, but it cannot be kept on time together with that crew's locked stops before it.`
+            : `Visit ${p.visits[v].id} is locked to crew ${p.crews[c].id}, but together with that crew's locked stops before it, it would take the crew past its daily limit (${limitText(p, c)}).`,
         );
+      }
     }
     keptLocked.push(kept);
   }
@@ -111,7 +118,7 @@ export function planDay(input: PlanDayInput): DayPlan {
     defer(
       v,
       "does_not_fit_day",
-      `Visit ${visit.id} (${visit.colonies} ${visit.colonies === 1 ? "colony" : "colonies"}) does not fit into any crew's day alongside the visits planned; move it to another day or add a crew.`,
+      `Visit ${visit.id} (${visit.colonies} ${visit.colonies === 1 ? "colony" : "colonies"}) does not fit into any crew's day${p.hasLimits ? ", within the crews' working hours and daily limits," : ""} alongside the visits planned; move it to another day or add a crew.`,
     );
   }
 
@@ -139,6 +146,32 @@ export function clockTime(minutes: number): string {
   const h = Math.floor(total / 60);
   const m = total % 60;
   return `${String(h).padStart(2, "0")}:${String(m).padStart(2, "0")}`;
+}
+
+/**
+ * For a visit no crew can serve even alone: true when some crew could serve it in time but
+ * not within its daily limits (so the limit, not the clock, is what keeps it off the day).
+ */
+function overEveryLimit(p: Problem, v: number): boolean {
+  for (let c = 0; c < p.crewCount; c++) {
+    if (p.lockCrew[v] >= 0 && p.lockCrew[v] !== c) continue;
+    if (!loadFits(p, c, p.colonies[v], p.centigrams[v]) && routeTimingCost(p, c, [v]) < Infinity) return true;
+  }
+  return false;
+}
+
+/** "12 colonies, 30 g" — a crew's daily limits in words. */
+function limitText(p: Problem, c: number): string {
+  const parts: string[] = [];
+  if (p.maxColonies[c] !== Infinity) parts.push(`${p.maxColonies[c]} ${p.maxColonies[c] === 1 ? "colony" : "colonies"}`);
+  if (p.maxCentigrams[c] !== Infinity) parts.push(`${p.maxCentigrams[c] / 100} g`);
+  return parts.join(", ");
+}
+
+function overLimitMessage(p: Problem, v: number): string {
+  const visit = p.visits[v];
+  const grams = p.centigrams[v] > 0 ? `, ${p.centigrams[v] / 100} g` : "";
+  return `Visit ${visit.id} (${visit.colonies} ${visit.colonies === 1 ? "colony" : "colonies"}${grams}) is more than any working crew may take in a day by its daily limit; split the visit, move it to another day or raise a crew's limit.`;
 }
 
 function outsideMessage(p: Problem, v: number): string {

@@ -8,7 +8,8 @@
  * Pareto front, so the result is the least-drive feasible order for every subset
  * (time-window TSP as in Dumas, Desrosiers, Gelinas & Solomon 1995). Locked visits may only
  * be added in their locked order. Labels that cannot be back by the end of the working day
- * even by the quickest way are dropped.
+ * even by the quickest way are dropped, and so are sets past the crew's daily limits
+ * (colonies, grams): a limit only grows with the set, so no extension of such a set fits.
  *
  * Whole day: with the best drive f_c(S) of every crew c and subset S, a second DP over
  * crews splits the plannable visits: g_c(U) = min over S ⊆ U of g_{c−1}(U∖S) + f_c(S)
@@ -16,7 +17,7 @@
  * the earliest booking where two equal plans differ.
  */
 
-import { type Problem, TIME_EPS, travel } from "./problem";
+import { loadFits, type Problem, TIME_EPS, travel } from "./problem";
 
 /** Largest candidate list of one crew's subset DP (2^12 · 12 states). */
 export const EXACT_ROUTE_MAX = 12;
@@ -87,6 +88,21 @@ export function solveRouteTable(p: Problem, crew: number, members: readonly numb
     const v = members[i];
     allowedMember[i] = p.lockCrew[v] < 0 || p.lockCrew[v] === crew ? 1 : 0;
   }
+  // Sets within the crew's daily limits (built from each set without its lowest member).
+  let withinLimits: Uint8Array | null = null;
+  if (p.maxColonies[crew] !== Infinity || p.maxCentigrams[crew] !== Infinity) {
+    const colonies = new Float64Array(full);
+    const centigrams = new Float64Array(full);
+    withinLimits = new Uint8Array(full);
+    withinLimits[0] = 1;
+    for (let mask = 1; mask < full; mask++) {
+      const low = 31 - Math.clz32(mask & -mask);
+      const rest = mask & (mask - 1);
+      colonies[mask] = colonies[rest] + p.colonies[members[low]];
+      centigrams[mask] = centigrams[rest] + p.centigrams[members[low]];
+      withinLimits[mask] = loadFits(p, crew, colonies[mask], centigrams[mask]) ? 1 : 0;
+    }
+  }
 
   // Labels in growable flat arrays; each state (mask, last) has a linked list of live labels.
   let capacity = 1024;
@@ -143,6 +159,7 @@ export function solveRouteTable(p: Problem, crew: number, members: readonly numb
     for (let j = 0; j < m; j++) {
       const bit = 1 << j;
       if (mask & bit || !allowedMember[j]) continue;
+      if (withinLimits && !withinLimits[mask | bit]) continue;
       if (lockedMask & bit && ((mask & lockBefore[j]) !== lockBefore[j] || (mask & lockAfter[j]) !== 0)) continue;
       const v = members[j];
       const leg = travel(p, fromPoint, p.point[v]);

@@ -2,8 +2,12 @@
  * The day planner's internal model: the input validated and turned into flat arrays in
  * seconds. Visits are re-indexed in booking order (bookedAt, then id), so a visit's index
  * is its tie-break rank and the plan does not depend on the order of the input array.
+ *
+ * A crew's daily limits (colonies, grams) are kept with each crew; doses are compared in
+ * whole centigrams, as they are kept (dose.ts), so sums never drift.
  */
 
+import { gramsToCentigrams } from "../dose";
 import type { PlanCrew, PlanVisit, TravelMatrix } from "./types";
 
 export const TIME_EPS = 1e-6;
@@ -42,7 +46,32 @@ export interface Problem {
   metres: Float64Array;
   /** Crew ids of locks that name no crew of the day, by visit index (else null). */
   unknownLockCrew: (string | null)[];
+  /** Dose of each visit in whole centigrams. */
+  centigrams: Float64Array;
+  /** Each crew's colony limit for the day (Infinity: none). */
+  maxColonies: Float64Array;
+  /** Each crew's gram limit for the day in centigrams (Infinity: none). */
+  maxCentigrams: Float64Array;
+  /** True when some crew has a limit (so load checks can be skipped otherwise). */
+  hasLimits: boolean;
 }
+
+/** Whether a crew may serve this many colonies and centigrams in its day. */
+export function loadFits(p: Problem, crew: number, colonies: number, centigrams: number): boolean {
+  return colonies <= p.maxColonies[crew] && centigrams <= p.maxCentigrams[crew];
+}
+
+/** Colonies and centigrams of a list of visits. */
+export function loadOf(p: Problem, visits: readonly number[]): { colonies: number; centigrams: number } {
+  let colonies = 0;
+  let centigrams = 0;
+  for (const v of visits) {
+    colonies += p.colonies[v];
+    centigrams += p.centigrams[v];
+  }
+  return { colonies, centigrams };
+}
+
 
 export function travel(p: Problem, from: number, to: number): number {
   return p.seconds[from * p.size + to];
@@ -92,6 +121,8 @@ export function buildProblem(visitsIn: readonly PlanVisit[], crews: readonly Pla
     checkMinutes(crew.workStartMin, `crew ${crew.id} workStartMin`);
     checkMinutes(crew.workEndMin, `crew ${crew.id} workEndMin`);
     if (crew.workEndMin < crew.workStartMin) fail(`crew ${crew.id} ends work before it starts`);
+    if (crew.maxColonies != null && (!Number.isFinite(crew.maxColonies) || crew.maxColonies < 0)) fail(`crew ${crew.id} maxColonies must be a number ≥ 0`);
+    if (crew.maxDoseGrams != null && (!Number.isFinite(crew.maxDoseGrams) || crew.maxDoseGrams < 0)) fail(`crew ${crew.id} maxDoseGrams must be a number ≥ 0`);
   });
 
   const keyed = visitsIn.map((visit) => {
@@ -112,12 +143,15 @@ export function buildProblem(visitsIn: readonly PlanVisit[], crews: readonly Pla
   const lockCrew = new Int32Array(n).fill(-1);
   const lockRank = new Int32Array(n).fill(-1);
   const unknownLockCrew: (string | null)[] = new Array<string | null>(n).fill(null);
+  const centigrams = new Float64Array(n);
   visits.forEach((visit, v) => {
     if (seen.has(visit.id)) fail(`visit id "${visit.id}" appears twice`);
     seen.add(visit.id);
     checkIndex(visit.pointIndex, `visit ${visit.id} pointIndex`);
     if (!Number.isInteger(visit.colonies) || visit.colonies < 0) fail(`visit ${visit.id} colonies must be a whole number ≥ 0`);
     if (!Number.isFinite(visit.serviceMinutes) || visit.serviceMinutes < 0) fail(`visit ${visit.id} serviceMinutes must be ≥ 0`);
+    if (visit.doseGrams !== undefined && (!Number.isFinite(visit.doseGrams) || visit.doseGrams < 0)) fail(`visit ${visit.id} doseGrams must be ≥ 0`);
+    centigrams[v] = gramsToCentigrams(visit.doseGrams ?? 0);
     checkMinutes(visit.window.startMin, `visit ${visit.id} window.startMin`);
     checkMinutes(visit.window.endMin, `visit ${visit.id} window.endMin`);
     if (visit.window.endMin < visit.window.startMin) fail(`visit ${visit.id} window ends before it starts`);
@@ -162,5 +196,9 @@ export function buildProblem(visitsIn: readonly PlanVisit[], crews: readonly Pla
     seconds,
     metres,
     unknownLockCrew,
+    centigrams,
+    maxColonies: Float64Array.from(crews, (c) => (c.maxColonies == null ? Infinity : Math.floor(c.maxColonies))),
+    maxCentigrams: Float64Array.from(crews, (c) => (c.maxDoseGrams == null ? Infinity : gramsToCentigrams(c.maxDoseGrams))),
+    hasLimits: crews.some((c) => c.maxColonies != null || c.maxDoseGrams != null),
   };
 }

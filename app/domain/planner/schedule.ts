@@ -4,8 +4,9 @@
  * A crew leaves its start point at workStart, drives to each stop, waits if it arrives
  * before the window opens, serves, and drives on; at the end it returns to its end point.
  * A route is feasible when every service starts at or after its window start and ends by its
- * window end, the crew is back by workEnd, and locked visits belong to this crew and come in
- * their locked order. An empty route is an idle crew: it does not drive (drive 0).
+ * window end, the crew is back by workEnd, locked visits belong to this crew and come in
+ * their locked order, and its colonies and grams stay within the crew's daily limits. An
+ * empty route is an idle crew: it does not drive (drive 0).
  *
  * RouteInfo holds, for O(1) insertion checks, the earliest departure from each point of the
  * route and the latest arrival at each point that still keeps the rest of the route on time
@@ -13,11 +14,20 @@
  * directions for O(1) drive deltas of reversals.
  */
 
-import { distance, type Problem, TIME_EPS, travel } from "./problem";
+import { distance, loadFits, loadOf, type Problem, TIME_EPS, travel } from "./problem";
 import type { CrewRun, PlannedStop } from "./types";
 
-/** Drive seconds of a feasible route, or Infinity if it breaks a window, the day or a lock. */
+/** Drive seconds of a feasible route, or Infinity if it breaks a window, the day, a lock or the crew's daily limits. */
 export function routeCost(p: Problem, crew: number, route: readonly number[]): number {
+  if (p.hasLimits) {
+    const load = loadOf(p, route);
+    if (!loadFits(p, crew, load.colonies, load.centigrams)) return Infinity;
+  }
+  return routeTimingCost(p, crew, route);
+}
+
+/** Drive seconds of a route that keeps its windows, the working day and its locks (daily limits not checked), or Infinity. */
+export function routeTimingCost(p: Problem, crew: number, route: readonly number[]): number {
   const length = route.length;
   if (length === 0) return 0;
   let time = p.workStart[crew];
@@ -63,6 +73,9 @@ export class RouteInfo {
   readonly departs: Float64Array;
   /** Latest arrival at pts[k] (k ≥ 1) that keeps every later stop and the return on time. */
   readonly latestArrival: Float64Array;
+  /** Colonies and centigrams the route serves, for the daily limits. */
+  readonly colonies: number;
+  readonly centigrams: number;
 
   constructor(
     private readonly p: Problem,
@@ -98,6 +111,9 @@ export class RouteInfo {
       latest[k] = Math.min(p.latestStart[v], latest[k + 1] - travel(p, pts[k], pts[k + 1]) - p.service[v]);
     }
     this.latestArrival = latest;
+    const load = loadOf(p, route);
+    this.colonies = load.colonies;
+    this.centigrams = load.centigrams;
   }
 
   /** Current drive (0 for an idle crew). */
@@ -107,10 +123,12 @@ export class RouteInfo {
 
   /**
    * Added drive if unlocked visit v is inserted between pts[gap] and pts[gap + 1]
-   * (gap 0…route.length), or Infinity if that breaks a window or the working day.
+   * (gap 0…route.length), or Infinity if that breaks a window, the working day or the crew's
+   * daily limits.
    */
   insertionDelta(v: number, gap: number): number {
     const p = this.p;
+    if (p.hasLimits && !loadFits(p, this.crew, this.colonies + p.colonies[v], this.centigrams + p.centigrams[v])) return Infinity;
     const from = this.pts[gap];
     const to = this.pts[gap + 1];
     const at = p.point[v];

@@ -31,6 +31,8 @@ export interface PlanVisit {
   /** ISO timestamp of the booking; earlier bookings win ties. */
   bookedAt: string;
   locked?: VisitLock;
+  /** Grams of oxalic acid dihydrate the visit takes (counts against a crew's gram limit; default 0). */
+  doseGrams?: number;
 }
 
 export interface PlanCrew {
@@ -41,6 +43,10 @@ export interface PlanCrew {
   endIndex: number;
   workStartMin: number;
   workEndMin: number;
+  /** The most colonies the crew may serve in the day (null or absent: no limit). A hard rule. */
+  maxColonies?: number | null;
+  /** The most grams the crew may apply in the day (null or absent: no limit). A hard rule. */
+  maxDoseGrams?: number | null;
 }
 
 /** Travel between matrix points: seconds[i][j] and metres[i][j] from point i to point j. */
