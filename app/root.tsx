@@ -1,7 +1,19 @@
-import { isRouteErrorResponse, Links, Meta, Outlet, Scripts, ScrollRestoration } from "react-router";
+import { isRouteErrorResponse, Links, Meta, Outlet, redirect, Scripts, ScrollRestoration } from "react-router";
 import type { Route } from "./+types/root";
 import "./app.css";
 import { ErrorPage } from "./components/error-page";
+import { businessSetUpRemembered } from "./models/setup.server";
+import { db } from "./services/db.server";
+
+// First run: until the business is set up (an owner account exists), every page leads to
+// the setup page. Resource routes (/healthz, /api/…) never run this loader and static files
+// never reach React Router; both stay as they are. Once set up, the answer is remembered and
+// the check costs nothing.
+export async function loader({ request }: Route.LoaderArgs) {
+  const path = new URL(request.url).pathname.replace(/\.data$/, "");
+  if (path !== "/setup" && !(await businessSetUpRemembered(db))) throw redirect("/setup");
+  return null;
+}
 
 export const links: Route.LinksFunction = () => [{ rel: "icon", href: "/favicon.svg", type: "image/svg+xml" }];
 

@@ -13,6 +13,7 @@ export default [
     route("forgot-password", "routes/public/forgot-password.tsx"),
     route("reset-password/:token", "routes/public/reset-password.tsx"),
     route("invite/:token", "routes/public/invite.tsx"),
+    route("setup", "routes/public/setup.tsx"),
   ]),
   route("sign-out", "routes/public/sign-out.tsx"),
   route("profile", "routes/profile.tsx"),

@@ -31,6 +31,8 @@ const RULES: Record<string, Rule> = {
   // Reset and invitation links: the token is the key; the test's token is not a valid one.
   "routes/public/reset-password.tsx": { outcome: () => "not-found" },
   "routes/public/invite.tsx": { outcome: () => "not-found" },
+  // First run of a business of its own: on the seeded test database setup is done, so it is gone for everyone.
+  "routes/public/setup.tsx": { outcome: () => "not-found" },
   // Every signed-in person has a profile (password, e-mail).
   "routes/profile.tsx": { outcome: (who) => (who === "anonymous" ? "sign-in" : "allowed") },
   // The e-mail change link's token is its key; the test's token is not a valid one.

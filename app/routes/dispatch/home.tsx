@@ -20,7 +20,7 @@ export async function loader({ request }: Route.LoaderArgs) {
   const days = await serviceDaysAhead(db, today, DAYS_AHEAD);
   const lastDay = days.at(-1)?.serviceDate ?? today;
   const runs = await runsBetween(db, today, lastDay);
-  return { today, days, runs };
+  return { today, days, runs, welcome: new URL(request.url).searchParams.has("welcome") };
 }
 
 const RUN_STATUS: Record<string, string> = { draft: "Draft", published: "Published", in_progress: "Under way", done: "Done" };
@@ -32,6 +32,22 @@ export default function DispatchHome({ loaderData }: Route.ComponentProps) {
   return (
     <>
       <PageHeader title="Days ahead" subtitle={`Bookings for the next ${DAYS_AHEAD} days, from ${formatServiceDate(today)}. Open a day to plan its runs.`} />
+      {loaderData.welcome ? (
+        <div role="status" className="mb-6 rounded-lg border-2 border-pine-600 bg-pine-50 px-4 py-3 text-ink">
+          <p className="font-semibold">Your business is set up, and you are signed in as its owner.</p>
+          <p className="mt-1">
+            Next: invite your team from{" "}
+            <Link to="/office/staff" className="font-semibold underline">
+              Staff
+            </Link>
+            , and give Crew 1 its members or add crews under{" "}
+            <Link to="/dispatch/crews" className="font-semibold underline">
+              Crews
+            </Link>
+            .
+          </p>
+        </div>
+      ) : null}
       <div className="mb-6 grid grid-cols-2 gap-3 lg:grid-cols-4">
         <Stat label="Visits booked" value={days.reduce((s, d) => s + d.visits, 0)} />
         <Stat label="Colonies to treat" value={colonies} />
