@@ -8,7 +8,9 @@ export default defineConfig({
     projects: [
       {
         extends: true,
-        test: { name: "unit", include: ["tests/unit/**/*.test.ts"] },
+        // The planner's benchmark-instance tests compute for seconds; a shared machine under
+        // load must not fail them on time (speed is measured by the bench:* scripts instead).
+        test: { name: "unit", include: ["tests/unit/**/*.test.ts"], testTimeout: 60_000 },
       },
       {
         extends: true,

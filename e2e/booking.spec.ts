@@ -83,9 +83,14 @@ test("a new customer adds a yard on the map, uploads a photo and books a day; th
   await dispatcher.goto(`/dispatch/calendar?date=${chosen}`);
   await dispatcher.locator(".fc-event", { hasText: yardName }).click();
   await expect(dispatcher).toHaveURL(/\/dispatch\/visits\/\d+$/);
-  const next = new Date(`${chosen}T00:00:00Z`);
-  next.setUTCDate(next.getUTCDate() + 1);
-  const moveTo = next.toISOString().slice(0, 10);
+  // The next day after the chosen one that has crews working and room for the yard's 4 colonies.
+  const after = (days: number) => {
+    const d = new Date(`${chosen}T00:00:00Z`);
+    d.setUTCDate(d.getUTCDate() + days);
+    return d.toISOString().slice(0, 10);
+  };
+  const room = (await (await dispatcher.request.get(`/api/capacity?from=${after(1)}&to=${after(14)}`)).json()) as { days: { date: string; closed: boolean; remaining: number }[] };
+  const moveTo = room.days.find((d) => !d.closed && d.remaining >= 4)!.date;
   await dispatcher.getByLabel("New day").fill(moveTo);
   await dispatcher.getByLabel("Reason for the customer (optional)").fill("Rain is forecast.");
   await dispatcher.getByRole("button", { name: "Move the visit" }).click();
