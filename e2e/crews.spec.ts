@@ -110,7 +110,7 @@ test("the dispatcher closes a day that has visits from the calendar and sees the
 
   // The calendar shows a moved visit on its new day.
   await page.goto(`/dispatch/calendar?date=${moved[0].service_date}`);
-  await expect(page.locator(".fc-event", { hasText: yards[0].yard })).toBeVisible();
+  await expect(page.locator(".fc-event", { hasText: yards[0].yard }).first()).toBeVisible();
 
   // Reopen the day: it takes bookings again (the moved visits stay where they went).
   await page.goto(`/dispatch/calendar?date=${day.service_date}`);

@@ -25,6 +25,7 @@ export function dispatchNav(role: string): NavItem[] {
     { to: "/dispatch/map", label: "Map" },
     { to: "/dispatch/customers", label: "Customers" },
     { to: "/dispatch/yards", label: "Yards" },
+    { to: "/dispatch/crews", label: "Crews" },
     { to: "/dispatch/settings", label: "Settings" },
     ...(role === "owner" ? [{ to: "/office", label: "Office" }] : []),
     PROFILE,
