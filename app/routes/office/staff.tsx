@@ -236,7 +236,7 @@ function MemberActions({ row, me }: { row: StaffListRow; me: number }) {
             </option>
           ))}
         </select>
-        <Button type="submit" variant="secondary" className="px-3" aria-label={`Change the role of ${row.name}`}>
+        <Button type="submit" variant="secondary" className="px-3" aria-label={`Change role of ${row.name}`}>
           Change role
         </Button>
       </Form>
@@ -265,7 +265,7 @@ function InvitationActions({ row }: { row: StaffListRow }) {
       <Form method="post" preventScrollReset>
         <input type="hidden" name="intent" value="resend" />
         <input type="hidden" name="invitationId" value={row.id} />
-        <Button type="submit" variant="secondary" className="px-3" aria-label={`Send the invitation to ${row.name} again`}>
+        <Button type="submit" variant="secondary" className="px-3" aria-label={`Send again to ${row.name}`}>
           Send again
         </Button>
       </Form>
