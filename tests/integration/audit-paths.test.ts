@@ -5,7 +5,13 @@ import { settingsFormDefaults } from "~/forms/settings-form";
 import { bookYards } from "~/models/bookings.server";
 import { moveStop, planServiceDay, publishRun, setStopLock } from "~/models/day-plan.server";
 import { resendInvoiceEmail } from "~/models/invoice-resend.server";
+import { crewSchema } from "~/forms/crew";
+import { workingDaySchema } from "~/forms/working-day";
+import { createCrew } from "~/models/crews.server";
 import { voidInvoice } from "~/models/office-invoices.server";
+import { changePassword } from "~/models/profile.server";
+import { changeStaffRole, deactivateStaff, inviteStaff } from "~/models/staff.server";
+import { changeWorkingDay } from "~/models/working-days.server";
 import { handleStripeWebhook, recordOfficePayment, refundPayment, startCardPayment } from "~/models/payments.server";
 import { loadBusinessSettings, updateBusinessSettingsFromForm } from "~/models/settings.server";
 import { confirmRunSafetyCheck, confirmSupersOff, finishVisit, recordTally } from "~/models/tallies.server";
@@ -399,6 +405,59 @@ describe("card checkout guards", () => {
     expect(row).toMatchObject({ entity_type: "invoice", entity_id: String(invoiceId), actor_user_id: null });
     expect(row.after).toMatchObject({ invoiceId, reason: "invoice_not_open", amountCents: 4_400 });
     expect(await db("payments").where({ invoice_id: invoiceId })).toHaveLength(0);
+  });
+});
+
+describe("staff and accounts", () => {
+  it("inviting, changing a role and deactivating: staff.invite, staff.role, staff.deactivate by the owner", async () => {
+    let since = await mark();
+    const { invitationId } = await inviteStaff(db, { actorUserId: owner, name: "Ivy Invitee", email: "ivy@example.test", role: "office", crewId: null });
+    const invited = await entry(since, "staff.invite");
+    expect(invited).toMatchObject({ actor_user_id: owner, entity_id: String(invitationId) });
+    expect(invited.after).toMatchObject({ email: "ivy@example.test", role: "office" });
+
+    since = await mark();
+    await changeStaffRole(db, { actorUserId: owner, userId: office, role: "dispatcher" });
+    const role = await entry(since, "staff.role");
+    expect(role).toMatchObject({ actor_user_id: owner, entity_type: "user", entity_id: String(office) });
+    expect(role.before).toMatchObject({ role: "office" });
+    expect(role.after).toMatchObject({ role: "dispatcher" });
+
+    since = await mark();
+    await deactivateStaff(db, { actorUserId: owner, userId: dispatcher });
+    const off = await entry(since, "staff.deactivate");
+    expect(off).toMatchObject({ actor_user_id: owner, entity_type: "user", entity_id: String(dispatcher) });
+  });
+
+  it("changing one's password: user.password_change by that person, without the password", async () => {
+    const since = await mark();
+    await changePassword(db, { userId: String(office), password: "a-fresh-password-2027", keepSessionToken: null });
+    const row = await entry(since, "user.password_change");
+    expect(row).toMatchObject({ actor_user_id: office, entity_type: "user", entity_id: String(office) });
+    expect(JSON.stringify([row.before, row.after])).not.toContain("a-fresh-password-2027");
+  });
+});
+
+describe("crews and working days", () => {
+  it("adding a crew: crew.create by the dispatcher with its limits and weekdays", async () => {
+    const input = crewSchema.parse({
+      name: "Crew East", memberIds: [], startLabel: "Shop", startLat: "42.4", startLng: "-76.5", endLabel: "", endLat: "", endLng: "",
+      workStart: "08:00", workEnd: "17:00", vaporizers: "2", maxColoniesPerDay: "40", maxDoseGramsPerDay: "", workingWeekdays: ["1", "2", "3"], active: "on",
+    });
+    const since = await mark();
+    const crewId = await createCrew(db, input, dispatcher);
+    const row = await entry(since, "crew.create");
+    expect(row).toMatchObject({ actor_user_id: dispatcher, entity_type: "crew", entity_id: String(crewId) });
+    expect(row.after).toMatchObject({ name: "Crew East", maxColoniesPerDay: 40 });
+  });
+
+  it("closing a day: service_day.close by the dispatcher with the note", async () => {
+    const change = workingDaySchema.parse({ intent: "close_day", date: day, note: "Rain all day" });
+    const since = await mark();
+    await changeWorkingDay(db, change, dispatcher);
+    const row = await entry(since, "service_day.close");
+    expect(row).toMatchObject({ actor_user_id: dispatcher, entity_id: day });
+    expect(row.after).toMatchObject({ closed: true, note: "Rain all day" });
   });
 });
 
