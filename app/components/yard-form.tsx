@@ -73,7 +73,7 @@ export function YardForm({
       <Card title="Colonies">
         <div className="grid gap-4 sm:grid-cols-2">
           <Field label="Colonies (hives) to treat" name="colonyCount" type="number" inputMode="numeric" min={0} max={200} step={1} defaultValue={values.colonyCount} error={errors.colonyCount} required />
-          <Field label="Brood boxes per colony" name="broodBoxesPerColony" type="number" inputMode="numeric" min={0} max={4} step={1} defaultValue={values.broodBoxesPerColony ?? "1"} error={errors.broodBoxesPerColony} hint="Honey supers do not count: the dose goes by brood boxes." required />
+          <Field label="Brood boxes per colony" name="broodBoxesPerColony" type="number" inputMode="numeric" min={1} max={4} step={1} defaultValue={values.broodBoxesPerColony ?? "1"} error={errors.broodBoxesPerColony} hint="Honey supers do not count: the dose goes by brood boxes." required />
         </div>
         <fieldset className="mt-4" aria-describedby={errors.broodStatus ? "brood-error" : undefined}>
           <legend className="font-semibold">Brood in the colonies</legend>

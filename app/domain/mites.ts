@@ -19,10 +19,23 @@ export function mitesPer100Bees(mites: number, beesSampled: number): number {
   return (mites * 100) / beesSampled;
 }
 
+/** Decimals a mite load (and a threshold) is shown with: "3.0 per 100 bees". */
+export const MITES_PER_100_DECIMALS = 1;
+
+/** A mite load (or threshold) at the precision shown to people: 3.04 → 3, 13.87 → 13.9. */
+export function mitesPer100AsShown(value: number): number {
+  return roundTo(value, MITES_PER_100_DECIMALS);
+}
+
 /** Mites per 100 bees as shown to people: one decimal (43 in 310 → "13.9"). */
 export function formatMitesPer100(value: number): string {
-  return roundTo(value, 1).toFixed(1);
+  return mitesPer100AsShown(value).toFixed(MITES_PER_100_DECIMALS);
 }
+
+/** Smallest wash sample taken as a volume: below a few spoonfuls an estimate means little. */
+export const MIN_SAMPLE_ML = 10;
+/** Largest wash sample taken as a volume (a litre jar is far past any scoop in use). */
+export const MAX_SAMPLE_ML = 1000;
 
 /** Bees in a sample from its volume, at a rule of so many bees per 100 mL (whole bees). */
 export function beesFromSampleVolume(volumeMl: number, beesPer100Ml: number): number {
@@ -31,6 +44,31 @@ export function beesFromSampleVolume(volumeMl: number, beesPer100Ml: number): nu
     throw new RangeError(`bees per 100 mL must be more than 0, got ${beesPer100Ml}`);
   }
   return roundTo((volumeMl * beesPer100Ml) / 100, 0);
+}
+
+/** The bees of a wash sample: counted by the crew, or estimated from the sample's volume. */
+export interface WashSampleBees {
+  beesSampled: number;
+  /** True when the bees were not counted but estimated from the volume. */
+  beesEstimated: boolean;
+  /** The sample's volume in mL, when the crew gave it. */
+  sampleMl: number | null;
+}
+
+/**
+ * The bees a wash count is divided by: the bees counted when the crew counted them (a count
+ * beats any rule of thumb), otherwise the sample's volume at the business's bees per 100 mL.
+ * Null when neither was given.
+ */
+export function washSampleBees(
+  sample: { beesCounted: number | null; sampleMl: number | null },
+  beesPer100Ml: number,
+): WashSampleBees | null {
+  if (sample.beesCounted !== null) {
+    return { beesSampled: sample.beesCounted, beesEstimated: false, sampleMl: sample.sampleMl };
+  }
+  if (sample.sampleMl === null) return null;
+  return { beesSampled: beesFromSampleVolume(sample.sampleMl, beesPer100Ml), beesEstimated: true, sampleMl: sample.sampleMl };
 }
 
 /** Converts a "half cup ≈ N bees" rule into bees per 100 mL (e.g. 300 per half cup ≈ 253.6 per 100 mL). */
@@ -96,9 +134,28 @@ export interface MiteLoadAssessment {
 }
 
 /**
+ * Where a mite load stands against a threshold, compared as people read them: both rounded
+ * to the shown precision first, so a load shown as "3.0 per 100 bees" is "at" a threshold of 3
+ * (never "above" because the raw value was 3.04), and floating-point noise never counts.
+ * Every comparison of a load with a threshold goes through here.
+ */
+export function miteLoadLevel(mitesPer100: number, threshold: number): MiteLoadLevel {
+  if (!Number.isFinite(mitesPer100) || mitesPer100 < 0) throw new RangeError(`mites per 100 bees must be ≥ 0, got ${mitesPer100}`);
+  if (!Number.isFinite(threshold) || threshold < 0) throw new RangeError(`threshold must be ≥ 0, got ${threshold}`);
+  const load = mitesPer100AsShown(mitesPer100);
+  const limit = mitesPer100AsShown(threshold);
+  return load < limit ? "below" : load === limit ? "at" : "above";
+}
+
+/** True when a load is at or above a threshold, compared as shown (see miteLoadLevel). */
+export function atOrAboveThreshold(mitesPer100: number, threshold: number): boolean {
+  return miteLoadLevel(mitesPer100, threshold) !== "below";
+}
+
+/**
  * Assesses a wash or roll: mites per 100 bees against the threshold for the sample date's
- * month. Both figures are rounded to 0.01 before comparing, so a load that equals the
- * threshold in decimal arithmetic is "at", never "above" by floating-point noise.
+ * month. The load is kept to 0.01 (for records and averages); the verdict compares both
+ * figures at the precision shown to people (miteLoadLevel).
  */
 export function assessMiteLoad(
   mites: number,
@@ -108,8 +165,8 @@ export function assessMiteLoad(
 ): MiteLoadAssessment {
   const load = roundTo(mitesPer100Bees(mites, beesSampled), 2);
   const threshold = roundTo(thresholdOn(isoDate, thresholds), 2);
-  const level: MiteLoadLevel = load < threshold ? "below" : load === threshold ? "at" : "above";
-  return { mitesPer100: load, threshold, level };
+  // The 0.01 figure is what screens and reports format, so the verdict is taken from it too.
+  return { mitesPer100: load, threshold, level: miteLoadLevel(load, threshold) };
 }
 
 /**

@@ -1,4 +1,5 @@
 import { formatServiceDate } from "~/components/format";
+import { formatMitesPer100, mitesPer100AsShown } from "~/domain/mites";
 import { renderEmail, type EmailBlock, type EmailContent } from "./layout";
 
 // The visit report a customer gets when the crew finishes a visit: what was treated and
@@ -28,6 +29,10 @@ export type ReportColony = {
   doseGrams: number;
   mites: number | null;
   beesSampled: number | null;
+  /** True when beesSampled was estimated from the sample's volume, not counted. */
+  beesEstimated?: boolean;
+  /** The sample's volume in mL, when the crew gave it. */
+  sampleMl?: number | null;
   /** Mites per 100 bees (0.01), when a wash count was taken. */
   mitesPer100: number | null;
   /** The action threshold in force on the visit's date, when a wash count was taken. */
@@ -59,19 +64,29 @@ function gramsText(value: number): string {
   return `${value.toFixed(2)} g`;
 }
 
-/** "3.0 per 100 bees" — one decimal, as counts are shown everywhere. */
+/** "3.0 per 100 bees" — one decimal, as counts are shown everywhere (and compared). */
 function per100Text(value: number): string {
-  return `${(Math.round(value * 10) / 10).toFixed(1)} per 100 bees`;
+  return `${formatMitesPer100(value)} per 100 bees`;
 }
 
+/** "3 per 100 bees", "2.5 per 100 bees": at the precision the load is compared with it. */
 function thresholdText(value: number): string {
-  return `${Number.isInteger(value) ? value : value.toFixed(1)} per 100 bees`;
+  const shown = mitesPer100AsShown(value);
+  return `${Number.isInteger(shown) ? shown : formatMitesPer100(shown)} per 100 bees`;
+}
+
+/** "300 bees" when counted; "about 355 bees (estimated from a 118 mL sample)" when estimated from the volume. */
+function beesText(colony: ReportColony): string {
+  if (colony.beesEstimated && colony.sampleMl != null) {
+    return `about ${colony.beesSampled} bees (estimated from a ${colony.sampleMl} mL sample)`;
+  }
+  return `${colony.beesSampled} bees`;
 }
 
 /** "H1: 9 mites in 300 bees = 3.0 per 100 bees, at the action threshold (3 per 100 bees)". */
 export function miteCountLine(colony: ReportColony): string | null {
   if (colony.mites === null || colony.beesSampled === null || colony.mitesPer100 === null) return null;
-  const base = `${colony.label}: ${colony.mites} ${colony.mites === 1 ? "mite" : "mites"} in ${colony.beesSampled} bees = ${per100Text(colony.mitesPer100)}`;
+  const base = `${colony.label}: ${colony.mites} ${colony.mites === 1 ? "mite" : "mites"} in ${beesText(colony)} = ${per100Text(colony.mitesPer100)}`;
   if (colony.threshold === null || colony.level === null) return base;
   const verdict =
     colony.level === "below"
@@ -128,7 +143,12 @@ export function visitReportEmail(input: VisitReportEmailInput): EmailContent {
   if (counts.length > 0) {
     blocks.push(
       { kind: "heading", text: "Mite counts" },
-      { kind: "paragraph", text: "Mites per 100 bees from a wash of a bee sample, compared with the seasonal action threshold." },
+      {
+        kind: "paragraph",
+        text: `Mites per 100 bees from a wash of a bee sample, compared with the seasonal action threshold.${
+          input.colonies.some((c) => c.beesEstimated && c.mites !== null) ? " Where the bees were not counted, their number is estimated from the sample's volume." : ""
+        }`,
+      },
       { kind: "list", items: counts },
     );
     if (above > 0) {

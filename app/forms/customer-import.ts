@@ -46,7 +46,7 @@ export const CUSTOMER_CSV_HELP: Record<CustomerCsvColumn, string> = {
   lat: "Latitude in decimal degrees, −90 to 90",
   lng: "Longitude in decimal degrees, −180 to 180",
   colonies: "Number of colonies, a whole number 0 to 200",
-  brood_boxes_per_colony: "Brood boxes per colony, 0 to 4",
+  brood_boxes_per_colony: "Brood boxes per colony, 1 to 4 (a living colony has at least one)",
   brood_status: "brood, broodless or unknown (blank = unknown)",
   supers_off: "yes or no (true / false also work; blank = no)",
   access_notes: "Gate codes, parking, dogs … (may be blank)",
@@ -80,14 +80,15 @@ function decimal(label: string, example: string, min: number, max: number) {
   );
 }
 
-function wholeNumber(label: string, max: number, tooMany: string) {
+function wholeNumber(label: string, max: number, tooMany: string, least?: { min: number; message: string }) {
+  const min = least?.min ?? 0;
   return cell(
     z
       .string()
       .min(1, `Enter the ${label}.`)
-      .regex(WHOLE, `Enter the ${label} as a whole number, 0 or more.`)
+      .regex(WHOLE, `Enter the ${label} as a whole number, ${min} or more.`)
       .transform(Number)
-      .pipe(z.number().max(max, tooMany)),
+      .pipe(z.number().min(min, least?.message ?? `Enter the ${label} as ${min} or more.`).max(max, tooMany)),
   );
 }
 
@@ -119,7 +120,10 @@ export const customerImportRowSchema = z.object({
   lat: decimal("latitude", "42.4440", -90, 90),
   lng: decimal("longitude", "-76.5019", -180, 180),
   colonies: wholeNumber("number of colonies", 200, "Enter at most 200 colonies in one yard; split a larger apiary into several yards."),
-  brood_boxes_per_colony: wholeNumber("brood boxes per colony", 4, "Enter at most 4 brood boxes per colony."),
+  brood_boxes_per_colony: wholeNumber("brood boxes per colony", 4, "Enter at most 4 brood boxes per colony.", {
+    min: 1,
+    message: "A living colony has at least one brood box: enter 1 to 4 brood boxes per colony.",
+  }),
   brood_status: cell(
     z
       .string()

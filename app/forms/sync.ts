@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { MAX_SAMPLE_ML, MIN_SAMPLE_ML } from "~/domain/mites";
 
 // What a crew's phone sends: one schema per kind of change (safety check, supers off, a
 // colony's tally, finishing a visit), shared by the phone (to check before queueing) and
@@ -31,6 +32,22 @@ function optionalWholeNumber(what: string, min: number, max: number) {
       .int({ error: `Enter ${what} as a whole number.` })
       .min(min, { error: `Enter ${what} from ${min} to ${max}.` })
       .max(max, { error: `Enter ${what} from ${min} to ${max}.` })
+      .nullable(),
+  );
+}
+
+/** A number (decimals allowed) from a number or numeric text, or null when not given. */
+function optionalNumber(what: string, min: number, max: number, unit: string) {
+  return z.preprocess(
+    (value) => {
+      const v = emptyAsNull(value);
+      return typeof v === "string" && /^\s*\d+(\.\d+)?\s*$/.test(v) ? Number(v) : v;
+    },
+    z
+      .number({ error: `Enter ${what} as a number of ${unit}.` })
+      .refine(Number.isFinite, { error: `Enter ${what} as a number of ${unit}.` })
+      .min(min, { error: `Enter ${what} from ${min} to ${max} ${unit}.` })
+      .max(max, { error: `Enter ${what} from ${min} to ${max} ${unit}.` })
       .nullable(),
   );
 }
@@ -80,7 +97,11 @@ export type SafetyItemsInput = z.output<typeof safetyItemsSchema>;
 export const safetyPayloadSchema = z.object({ runId: idSchema, items: safetyItemsSchema });
 export const supersPayloadSchema = z.object({ visitId: idSchema });
 
-/** One colony's tally. A skipped colony needs a reason ("other" also a note); a wash count needs both mites and bees. */
+/**
+ * One colony's tally. A skipped colony needs a reason ("other" also a note). A wash count
+ * needs the mites and either the bees counted or the sample's volume in mL (the bees are then
+ * estimated from the bees-per-100 mL setting); bees counted win when both are given.
+ */
 export const tallyPayloadSchema = z
   .object({
     visitId: idSchema,
@@ -90,6 +111,8 @@ export const tallyPayloadSchema = z
     skipNote: optionalText("the note", 500),
     mites: optionalWholeNumber("the mites counted", 0, 10_000),
     beesSampled: optionalWholeNumber("the bees sampled", 1, 10_000),
+    // Optional on the wire: phones that predate wash volumes never send it.
+    sampleMl: optionalNumber("the sample volume", MIN_SAMPLE_ML, MAX_SAMPLE_ML, "mL").optional().transform((v) => v ?? null),
     notes: optionalText("the notes", 2000),
     recordedAt: instantSchema,
   })
@@ -100,10 +123,10 @@ export const tallyPayloadSchema = z
     if (tally.outcome === "skipped" && tally.skipReason === "other" && !tally.skipNote) {
       ctx.addIssue({ code: "custom", path: ["skipNote"], message: "Say why the colony was skipped." });
     }
-    if (tally.mites !== null && tally.beesSampled === null) {
-      ctx.addIssue({ code: "custom", path: ["beesSampled"], message: "Enter how many bees were in the sample." });
+    if (tally.mites !== null && tally.beesSampled === null && tally.sampleMl === null) {
+      ctx.addIssue({ code: "custom", path: ["beesSampled"], message: "Enter how many bees were in the sample, or the sample's volume in mL." });
     }
-    if (tally.beesSampled !== null && tally.mites === null) {
+    if ((tally.beesSampled !== null || tally.sampleMl !== null) && tally.mites === null) {
       ctx.addIssue({ code: "custom", path: ["mites"], message: "Enter how many mites were counted (0 if none)." });
     }
   })

@@ -7,6 +7,9 @@ function numberFrom(label: string) {
   );
 }
 
+/** Why 0 brood boxes is refused (the yard form and the customer import). */
+export const BROOD_BOX_MINIMUM_MESSAGE = "A living colony has at least one brood box.";
+
 /** A yard as the customer (or the office) enters it. */
 export const yardSchema = z.object({
   name: z.string().trim().min(1, "Give the yard a name, e.g. “Home yard”.").max(80, "Keep the name under 80 characters."),
@@ -22,7 +25,8 @@ export const yardSchema = z.object({
     z.number().int("Colonies are counted in whole hives.").min(0, "Colonies cannot be fewer than 0.").max(200, "Enter at most 200 colonies; call us for more."),
   ),
   broodBoxesPerColony: numberFrom("the brood boxes per colony").pipe(
-    z.number().int("Brood boxes are whole boxes.").min(0, "Brood boxes cannot be fewer than 0.").max(4, "Enter at most 4 brood boxes per colony."),
+    // The dose goes by brood boxes: 0 would let a colony be tallied "treated" with 0 g.
+    z.number().int("Brood boxes are whole boxes.").min(1, BROOD_BOX_MINIMUM_MESSAGE).max(4, "Enter at most 4 brood boxes per colony."),
   ),
   broodStatus: z.enum(["brood", "broodless", "unknown"], { error: "Choose whether the colonies have brood." }),
   supersOff: z.preprocess((v) => v === "on" || v === "true" || v === true, z.boolean()),

@@ -43,7 +43,7 @@ export async function crewFieldRun(db: Knex, crewId: number | string, serviceDat
   const visitIds = stops.map((s) => s.visitId);
   const [colonies, tallies, photos] = await Promise.all([
     db("colonies").whereIn("yard_id", yardIds).where({ active: true }).orderByRaw("length(label), label").select("yard_id", "label", "brood_boxes"),
-    db("tallies").whereIn("visit_id", visitIds).select("visit_id", "colony_label", "outcome", "skip_reason", "skip_note", "mites", "bees_sampled", "notes"),
+    db("tallies").whereIn("visit_id", visitIds).select("visit_id", "colony_label", "outcome", "skip_reason", "skip_note", "mites", "bees_sampled", "wash_sample_ml", "bees_estimated", "notes"),
     db("attachments").whereIn("yard_id", yardIds).orderBy("id").select("id", "yard_id"),
   ]);
   const fieldStops: FieldStop[] = stops.map((s) => ({
@@ -70,7 +70,7 @@ export async function crewFieldRun(db: Knex, crewId: number | string, serviceDat
         .filter((t) => t.visit_id === s.visitId)
         .map((t): [string, FieldTally] => [
           t.colony_label,
-          { colonyLabel: t.colony_label, outcome: t.outcome, skipReason: t.skip_reason as SkipReason | null, skipNote: t.skip_note, mites: t.mites, beesSampled: t.bees_sampled, notes: t.notes },
+          { colonyLabel: t.colony_label, outcome: t.outcome, skipReason: t.skip_reason as SkipReason | null, skipNote: t.skip_note, mites: t.mites, beesSampled: t.bees_estimated ? null : t.bees_sampled, sampleMl: t.wash_sample_ml === null ? null : Number(t.wash_sample_ml), notes: t.notes },
         ]),
     ),
   }));
@@ -92,6 +92,7 @@ export async function crewFieldRun(db: Knex, crewId: number | string, serviceDat
       blockMinC: settings.blockMinC,
       blockMaxC: settings.blockMaxC,
       miteThresholds: settings.miteThresholds,
+      beesPer100Ml: settings.beesPer100Ml,
     },
     loadedAt: new Date().toISOString(),
   };

@@ -1,7 +1,7 @@
 import type { Knex } from "knex";
 import { z } from "zod";
 import { formatServiceDate } from "~/components/format";
-import { mitesPer100Bees, percentReduction, thresholdOn, type MiteLoadLevel, type MiteThreshold } from "~/domain/mites";
+import { atOrAboveThreshold, miteLoadLevel, mitesPer100Bees, percentReduction, thresholdOn, type MiteLoadLevel, type MiteThreshold } from "~/domain/mites";
 import type { BusinessSettings } from "~/domain/settings";
 import { roundTo } from "~/domain/units";
 import type { VisitRow } from "./tables";
@@ -118,10 +118,6 @@ function safeThreshold(isoDate: string, thresholds: readonly MiteThreshold[]): n
   }
 }
 
-function levelOf(value: number, threshold: number): MiteLoadLevel {
-  return value < threshold ? "below" : value === threshold ? "at" : "above";
-}
-
 /** The season report of one customer for one calendar year. Only that customer's yards are read. */
 export async function seasonReportForCustomer(
   db: Knex,
@@ -218,7 +214,7 @@ export async function seasonReportForCustomer(
       const change = average !== null && previous !== null ? roundTo(average - previous, 2) : null;
       const fewer = average !== null && previous !== null ? percentReduction(previous, average) : null;
       // Compared as shown (one decimal), so a round shown as "3.0" is never "above" a threshold of 3.
-      const level = average !== null && threshold !== null ? levelOf(roundTo(average, 1), threshold) : null;
+      const level = average !== null && threshold !== null ? miteLoadLevel(average, threshold) : null;
       const percentFewer = fewer === null ? null : roundTo(fewer, 1);
       yardRounds.push({
         visitId: Number(r.visit_id),
@@ -231,7 +227,7 @@ export async function seasonReportForCustomer(
         averageMitesPer100: average,
         threshold,
         level,
-        coloniesAtOrAboveThreshold: threshold === null ? 0 : loads.filter((v) => roundTo(v, 1) >= threshold).length,
+        coloniesAtOrAboveThreshold: threshold === null ? 0 : loads.filter((v) => atOrAboveThreshold(v, threshold)).length,
         changeFromPrevious: change,
         percentFewerThanPrevious: percentFewer,
         text: {

@@ -188,6 +188,10 @@ export interface TallyRow extends Stamps {
   dose_grams: number;
   mites: number | null;
   bees_sampled: number | null;
+  /** The wash sample's volume in mL, when the crew gave it (numeric: read through Number()). */
+  wash_sample_ml: number | null;
+  /** True when bees_sampled was estimated from wash_sample_ml, not counted. */
+  bees_estimated: boolean;
   notes: string | null;
   recorded_by: Id | null;
   recorded_at: Date;

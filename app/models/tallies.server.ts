@@ -2,7 +2,7 @@ import type { Knex } from "knex";
 import { formatClock } from "~/components/format";
 import { addCalendarDays } from "~/domain/courses";
 import { doseGramsForColony, doseGramsForSeason } from "~/domain/dose";
-import { assessMiteLoad, mitesPer100Bees, type MiteLoadAssessment } from "~/domain/mites";
+import { assessMiteLoad, mitesPer100Bees, washSampleBees, type MiteLoadAssessment } from "~/domain/mites";
 import type { BusinessSettings } from "~/domain/settings";
 import { roundTo } from "~/domain/units";
 import { visitReportEmail, type ReportColony, type ReportSkipReason } from "~/emails/visit-report";
@@ -75,6 +75,11 @@ const MESSAGES = {
   finished: "This visit is finished; its tallies can no longer change.",
   keyReused: "That change key was used for another change. The phone must make a new key for each change.",
 } as const;
+
+/** Why a colony cannot be tallied "treated": its dose would be 0 g. */
+function zeroDoseMessage(label: string): string {
+  return `${label} has no brood box on record, so its dose would be 0 g: it cannot be recorded as treated. Record it as skipped (a dead-out, say), or ask the office to correct its brood boxes.`;
+}
 
 function notYourRun(): TallyRefused {
   return new TallyRefused("not_your_run", MESSAGES.notYourRun);
@@ -412,7 +417,12 @@ export type TallyView = {
   broodBoxes: number;
   doseGrams: number;
   mites: number | null;
+  /** The bees the wash count is divided by: counted, or estimated from the sample's volume. */
   beesSampled: number | null;
+  /** True when beesSampled was estimated from sampleMl (bees per 100 mL in settings), not counted. */
+  beesEstimated: boolean;
+  /** The wash sample's volume in mL, when the crew gave it. */
+  sampleMl: number | null;
   /** Mites per 100 bees (to 0.01) when a wash count was given. */
   mitesPer100: number | null;
   /** The count against the action threshold of the visit's month, when a wash count was given. */
@@ -452,6 +462,8 @@ function tallyView(row: TallyRow, serviceDate: string, settings: BusinessSetting
     doseGrams: Number(row.dose_grams),
     mites: row.mites,
     beesSampled: row.bees_sampled,
+    beesEstimated: row.bees_estimated === true,
+    sampleMl: row.wash_sample_ml === null || row.wash_sample_ml === undefined ? null : Number(row.wash_sample_ml),
     ...miteLoadFor(row.mites, row.bees_sampled, serviceDate, settings),
     notes: row.notes,
     recordedAt: iso(row.recorded_at)!,
@@ -470,6 +482,8 @@ export type TallyInput = {
   skipNote?: string | null;
   mites?: number | string | null;
   beesSampled?: number | string | null;
+  /** The wash sample's volume in mL: the bees are estimated from it when they were not counted. */
+  sampleMl?: number | string | null;
   notes?: string | null;
   recordedAt: Date | string;
 };
@@ -490,6 +504,7 @@ async function recordTallyTx(trx: Knex.Transaction, input: TallyInput, now: Date
     skipNote: input.skipNote ?? null,
     mites: input.mites ?? null,
     beesSampled: input.beesSampled ?? null,
+    sampleMl: input.sampleMl ?? null,
     notes: input.notes ?? null,
     recordedAt: input.recordedAt,
   });
@@ -506,6 +521,11 @@ async function recordTallyTx(trx: Knex.Transaction, input: TallyInput, now: Date
   }
   const settings = await loadBusinessSettings(trx);
   const doseGrams = tally.outcome === "treated" ? doseGramsForColony(colony.brood_boxes, settings.doseGramsPerBroodBox) : 0;
+  if (tally.outcome === "treated" && !(doseGrams > 0)) {
+    // Only a colony left with 0 brood boxes gets here; a "treated" tally of 0 g would be a false record.
+    throw new TallyRefused("invalid", zeroDoseMessage(colony.label), { outcome: zeroDoseMessage(colony.label) });
+  }
+  const wash = tally.mites === null ? null : washSampleBees({ beesCounted: tally.beesSampled, sampleMl: tally.sampleMl }, settings.beesPer100Ml);
   const recordedAt = notLaterThanNow(tally.recordedAt, now);
 
   const existing = await trx("tallies").where({ visit_id: access.visitId, colony_label: colony.label }).forUpdate().first();
@@ -524,7 +544,9 @@ async function recordTallyTx(trx: Knex.Transaction, input: TallyInput, now: Date
       brood_boxes: colony.brood_boxes,
       dose_grams: doseGrams,
       mites: tally.mites,
-      bees_sampled: tally.beesSampled,
+      bees_sampled: wash?.beesSampled ?? null,
+      wash_sample_ml: wash?.sampleMl ?? null,
+      bees_estimated: wash?.beesEstimated ?? false,
       notes: tally.notes,
       recorded_by: userId,
       recorded_at: recordedAt,
@@ -550,7 +572,16 @@ async function recordTallyTx(trx: Knex.Transaction, input: TallyInput, now: Date
       entity_type: "visit",
       entity_id: String(access.visitId),
       before: existing ? JSON.stringify({ colonyLabel: existing.colony_label, outcome: existing.outcome, skipReason: existing.skip_reason, mites: existing.mites, beesSampled: existing.bees_sampled }) : null,
-      after: JSON.stringify({ colonyLabel: colony.label, outcome: tally.outcome, skipReason: tally.skipReason, doseGrams, mites: tally.mites, beesSampled: tally.beesSampled, key }),
+      after: JSON.stringify({
+        colonyLabel: colony.label,
+        outcome: tally.outcome,
+        skipReason: tally.skipReason,
+        doseGrams,
+        mites: tally.mites,
+        beesSampled: wash?.beesSampled ?? null,
+        ...(wash?.beesEstimated ? { beesEstimated: true, sampleMl: wash.sampleMl } : {}),
+        key,
+      }),
     });
     result = tallyView(row as TallyRow, access.serviceDate, settings);
   }
@@ -727,6 +758,8 @@ async function loadVisitReport(db: Knex, visitId: number, settings: BusinessSett
       doseGrams: Number(t.dose_grams),
       mites: t.mites,
       beesSampled: t.bees_sampled,
+      beesEstimated: t.bees_estimated === true,
+      sampleMl: t.wash_sample_ml === null || t.wash_sample_ml === undefined ? null : Number(t.wash_sample_ml),
       mitesPer100: load.mitesPer100,
       threshold: load.miteLoad?.threshold ?? null,
       level: load.miteLoad?.level ?? null,

@@ -1,7 +1,7 @@
 import { afterAll, beforeEach, describe, expect, it } from "vitest";
 import { defaultBusinessSettings } from "~/domain/settings";
 import { saveBusinessSettings } from "~/models/settings.server";
-import { confirmRunSafetyCheck, confirmSupersOff, crewStopDetail, finishVisit, recordTally, TallyRefused } from "~/models/tallies.server";
+import { confirmRunSafetyCheck, confirmSupersOff, crewStopDetail, finishVisit, recordTally, TallyRefused, visitReportForCustomer } from "~/models/tallies.server";
 import { db } from "~/services/db.server";
 import { stopJobs } from "~/services/jobs.server";
 import { ALL_SAFE, aCrew, aKey, aStop, type TestCrew, type TestStop } from "./crew-fixtures";
@@ -186,6 +186,37 @@ describe("tallies", () => {
     expect(below.miteLoad?.level).toBe("below");
     const none = await recordTally(db, tally({ colonyLabel: "H4" }));
     expect(none).toMatchObject({ mitesPer100: null, miteLoad: null });
+  });
+
+  it("takes a wash by its sample volume, estimating the bees from the setting, and says so in the report", async () => {
+    await saveBusinessSettings(db, { ...defaultBusinessSettings, beesPer100Ml: 250 }, crewUser);
+    await readyStop();
+    // Half a US cup = 118.29 mL (NIST Handbook 44), entered as 118.3; at 250 bees per 100 mL:
+    // 118.3 × 250 / 100 = 295.75 → 296 bees. 9 mites: 9 × 100 / 296 = 3.04, shown "3.0" — at the
+    // November threshold of 3 (USDA-ARS general threshold), not above it.
+    const byVolume = await recordTally(db, tally({ colonyLabel: "H1", mites: 9, beesSampled: null, sampleMl: "118.3" }));
+    expect(byVolume).toMatchObject({ mites: 9, beesSampled: 296, beesEstimated: true, sampleMl: 118.3, mitesPer100: 3.04 });
+    expect(byVolume.miteLoad).toEqual({ mitesPer100: 3.04, threshold: 3, level: "at" });
+    const row = await db("tallies").where({ visit_id: stop.visitId, colony_label: "H1" }).first();
+    expect(row).toMatchObject({ bees_sampled: 296, bees_estimated: true });
+    expect(Number(row?.wash_sample_ml)).toBe(118.3);
+
+    // Bees counted win over a volume given beside them.
+    const counted = await recordTally(db, tally({ colonyLabel: "H2", mites: 9, beesSampled: 300, sampleMl: 118.3 }));
+    expect(counted).toMatchObject({ beesSampled: 300, beesEstimated: false, sampleMl: 118.3, mitesPer100: 3 });
+    // A volume without mites is half a wash count.
+    const half = await refusal(recordTally(db, tally({ colonyLabel: "H3", sampleMl: 118.3 })));
+    expect(half.fieldErrors.mites).toMatch(/mites were counted/);
+
+    await recordTally(db, tally({ colonyLabel: "H3" }));
+    await recordTally(db, tally({ colonyLabel: "H4" }));
+    await finishVisit(db, { visitId: stop.visitId, crewId: crew.id, userId: crewUser, finishKey: aKey("finish") });
+    const report = await visitReportForCustomer(db, { visitId: stop.visitId, customerId: stop.customerId });
+    expect(report?.colonies[0]).toMatchObject({ label: "H1", beesSampled: 296, beesEstimated: true, sampleMl: 118.3, level: "at" });
+    expect(report?.colonies[1]).toMatchObject({ label: "H2", beesSampled: 300, beesEstimated: false });
+    const email = await db("email_log").where({ visit_id: stop.visitId, kind: "visit_report" }).first("text_body");
+    expect(email?.text_body).toContain("H1: 9 mites in about 296 bees (estimated from a 118.3 mL sample) = 3.0 per 100 bees, at the action threshold (3 per 100 bees)");
+    expect(email?.text_body).toContain("H2: 9 mites in 300 bees = 3.0 per 100 bees, at the action threshold");
   });
 
   it("refuses a colony that is not at the yard", async () => {

@@ -3,6 +3,10 @@ import { describe, expect, it } from "vitest";
 import {
   HALF_US_CUP_ML,
   assessMiteLoad,
+  atOrAboveThreshold,
+  miteLoadLevel,
+  mitesPer100AsShown,
+  washSampleBees,
   beesFromSampleVolume,
   beesPer100MlFromHalfCupRule,
   formatMitesPer100,
@@ -76,6 +80,27 @@ describe("bees from a sample volume", () => {
     expect(beesPer100MlFromHalfCupRule(300)).toBeCloseTo(253.6, 1);
   });
 
+  it("estimates a half-cup sample within the published half-cup figures", () => {
+    // Source: ~300 bees ≈ 100 mL (COLOSS BEEBOOK Vol. II, Dietemann et al. 2013), the default
+    // bees per 100 mL; ½ US cup = 118.29 mL (NIST Handbook 44) ≈ 300 bees (popular rule, Lee et
+    // al. 2010, Univ. of Minnesota) or ≈ 400 bees (Mississippi State Univ. Extension).
+    // 118.29 × 300 / 100 = 354.9 → 355 bees: inside the 300–400 the half-cup rules give.
+    const bees = beesFromSampleVolume(HALF_US_CUP_ML, 300);
+    expect(bees).toBe(355);
+    expect(bees).toBeGreaterThanOrEqual(300);
+    expect(bees).toBeLessThanOrEqual(400);
+    // 9 mites in that half cup: 9 × 100 / 355 = 2.535… → "2.5" per 100.
+    expect(formatMitesPer100(mitesPer100Bees(9, bees))).toBe("2.5");
+  });
+
+  it("uses the bees counted when there are any, and the volume otherwise", () => {
+    expect(washSampleBees({ beesCounted: 310, sampleMl: 118.3 }, 300)).toEqual({ beesSampled: 310, beesEstimated: false, sampleMl: 118.3 });
+    expect(washSampleBees({ beesCounted: 310, sampleMl: null }, 300)).toEqual({ beesSampled: 310, beesEstimated: false, sampleMl: null });
+    expect(washSampleBees({ beesCounted: null, sampleMl: 100 }, 300)).toEqual({ beesSampled: 300, beesEstimated: true, sampleMl: 100 });
+    expect(washSampleBees({ beesCounted: null, sampleMl: 118.3 }, 400)).toEqual({ beesSampled: 473, beesEstimated: true, sampleMl: 118.3 });
+    expect(washSampleBees({ beesCounted: null, sampleMl: null }, 300)).toBeNull();
+  });
+
   it("rejects empty volumes and rates", () => {
     expect(() => beesFromSampleVolume(0, 300)).toThrow(RangeError);
     expect(() => beesFromSampleVolume(100, 0)).toThrow(RangeError);
@@ -137,12 +162,21 @@ describe("assessMiteLoad", () => {
     expect(assessMiteLoad(9, 400, "2026-11-01", SEASON).level).toBe("below"); // 2.25 < 2.5
   });
 
-  it("rounds the load to 0.01 before comparing", () => {
+  it("keeps the load to 0.01, and compares it as shown (one decimal)", () => {
     // 43 / 310 = 13.870… → 13.87
     expect(assessMiteLoad(43, 310, "2026-08-01", SEASON).mitesPer100).toBe(13.87);
-    // 7 mites in 300 bees = 2.333… → 2.33: "at" a threshold written as 2.33
+    // 7 mites in 300 bees = 2.333…, shown "2.3": "at" a threshold written as 2.33 (shown "2.3").
     const thresholds = [{ fromMonth: 1, toMonth: 12, mitesPer100: 2.33 }];
     expect(assessMiteLoad(7, 300, "2026-08-01", thresholds).level).toBe("at");
+  });
+
+  it("does not call a load shown as 3.0 'above' a threshold of 3", () => {
+    // 38 mites in 1250 bees = 3.04 per 100, shown "3.0": at the autumn threshold of 3, not above.
+    const a = assessMiteLoad(38, 1250, "2026-09-15", SEASON);
+    expect(formatMitesPer100(a.mitesPer100)).toBe("3.0");
+    expect(a).toEqual({ mitesPer100: 3.04, threshold: 3, level: "at" });
+    // 37 in 1250 = 2.96, shown "3.0": at, not below.
+    expect(assessMiteLoad(37, 1250, "2026-09-15", SEASON).level).toBe("at");
   });
 
   it("is 'at' whenever mites × 100 / bees equals the threshold", () => {
@@ -155,6 +189,50 @@ describe("assessMiteLoad", () => {
         expect(assessMiteLoad(mites, bees, "2026-06-01", thresholds).level).toBe("at");
       }),
     );
+  });
+});
+
+describe("comparing a load with a threshold at the shown precision", () => {
+  it("rounds to one decimal, as formatMitesPer100 shows it", () => {
+    expect(mitesPer100AsShown(3.04)).toBe(3);
+    expect(mitesPer100AsShown(3.05)).toBe(3.1);
+    expect(mitesPer100AsShown(2.25)).toBe(2.3);
+    expect(mitesPer100AsShown(1.15)).toBe(1.2); // 1.15 is 1.1499… in binary; shown and compared as 1.2
+    for (const v of [0, 0.04, 2.96, 3.04, 3.05, 13.87, 1.15, 2.25]) expect(mitesPer100AsShown(v).toFixed(1)).toBe(formatMitesPer100(v));
+  });
+
+  it("is 'at' on both sides of the boundary that rounds to the threshold", () => {
+    expect(miteLoadLevel(3.04, 3)).toBe("at");
+    expect(miteLoadLevel(3.049, 3)).toBe("at");
+    expect(miteLoadLevel(2.95, 3)).toBe("at");
+    expect(miteLoadLevel(3.05, 3)).toBe("above");
+    expect(miteLoadLevel(2.94, 3)).toBe("below");
+    expect(miteLoadLevel(3.0000000000000004, 3)).toBe("at");
+  });
+
+  it("rounds a threshold with more decimals the same way", () => {
+    expect(miteLoadLevel(2.3, 2.33)).toBe("at");
+    expect(miteLoadLevel(2.4, 2.33)).toBe("above");
+    expect(miteLoadLevel(2.2, 2.33)).toBe("below");
+  });
+
+  it("agrees with what people read: equal shown figures are 'at', larger shown figures 'above'", () => {
+    fc.assert(
+      fc.property(fc.integer({ min: 0, max: 5000 }), fc.integer({ min: 1, max: 500 }), (hundredths, thresholdTenths) => {
+        const load = hundredths / 100;
+        const threshold = thresholdTenths / 10;
+        const shown = Number(formatMitesPer100(load));
+        const expected = shown < threshold ? "below" : shown === threshold ? "at" : "above";
+        expect(miteLoadLevel(load, threshold)).toBe(expected);
+        expect(atOrAboveThreshold(load, threshold)).toBe(expected !== "below");
+      }),
+    );
+  });
+
+  it("refuses negative or missing figures", () => {
+    expect(() => miteLoadLevel(-1, 3)).toThrow(RangeError);
+    expect(() => miteLoadLevel(Number.NaN, 3)).toThrow(RangeError);
+    expect(() => miteLoadLevel(1, Number.POSITIVE_INFINITY)).toThrow(RangeError);
   });
 });
 

@@ -67,3 +67,18 @@ describe("visit report e-mail", () => {
     expect(visitReportEmail({ ...input, colonies: [colony({})] }).text).not.toContain("Mite counts");
   });
 });
+
+describe("a wash whose bees were estimated from the sample's volume", () => {
+  it("says so in the mite count line; a counted wash reads as before", () => {
+    // 9 mites in a half cup (118.3 mL) at 300 bees per 100 mL: about 355 bees, 2.54 per 100.
+    const estimated = colony({ mites: 9, beesSampled: 355, beesEstimated: true, sampleMl: 118.3, mitesPer100: 2.54, threshold: 3, level: "below" });
+    expect(miteCountLine(estimated)).toBe(
+      "H1: 9 mites in about 355 bees (estimated from a 118.3 mL sample) = 2.5 per 100 bees, below the action threshold (3 per 100 bees)",
+    );
+    expect(miteCountLine(colony({ mites: 9, beesSampled: 300, mitesPer100: 3, threshold: 3, level: "at" }))).toBe(
+      "H1: 9 mites in 300 bees = 3.0 per 100 bees, at the action threshold (3 per 100 bees)",
+    );
+    const email = visitReportEmail({ ...input, colonies: [estimated] });
+    expect(email.text).toContain("estimated from the sample's volume");
+  });
+});

@@ -1,6 +1,6 @@
 import { useState } from "react";
-import { assessMiteLoad, formatMitesPer100 } from "~/domain/mites";
-import { formatDose } from "~/domain/units";
+import { HALF_US_CUP_ML, MAX_SAMPLE_ML, MIN_SAMPLE_ML, assessMiteLoad, beesFromSampleVolume, formatMitesPer100 } from "~/domain/mites";
+import { formatDose, roundTo } from "~/domain/units";
 import { DoseTimer } from "./dose-timer";
 import { SKIP_REASON_NAMES, type FieldColony, type FieldSettings, type FieldTally, type SkipReason } from "./field-types";
 
@@ -34,19 +34,33 @@ export function ColonyRow({
   const currentReason = tally?.outcome === "skipped" ? tally.skipReason : null;
   const [mitesText, setMitesText] = useState(tally?.mites != null ? String(tally.mites) : "");
   const [beesText, setBeesText] = useState(tally?.beesSampled != null ? String(tally.beesSampled) : "");
-  // A wash count is kept when both numbers are in (or both cleared).
-  const saveWash = () => {
+  const [mlText, setMlText] = useState(tally?.sampleMl != null ? String(tally.sampleMl) : "");
+  // A wash count is kept when the mites and either the bees counted or the sample's volume are
+  // in (or all are cleared); with only the volume, the server estimates the bees from settings.
+  const washInput = (ml = mlText) => {
     const mites = mitesText.trim() === "" ? null : Math.max(0, Math.round(Number(mitesText)));
     const bees = beesText.trim() === "" ? null : Math.max(1, Math.round(Number(beesText)));
-    if ((mites === null) !== (bees === null)) return;
-    if (mites === (tally?.mites ?? null) && bees === (tally?.beesSampled ?? null)) return;
-    save({ mites, beesSampled: bees });
+    const volume = ml.trim() === "" ? null : roundTo(Number(ml), 1);
+    const volumeOutOfRange = volume !== null && !(volume >= MIN_SAMPLE_ML && volume <= MAX_SAMPLE_ML);
+    const complete = !volumeOutOfRange && (mites === null ? bees === null && volume === null : bees !== null || volume !== null);
+    return { mites, bees, volume, complete, volumeOutOfRange };
   };
-  const washHalf = (mitesText.trim() === "") !== (beesText.trim() === "");
-  const base: FieldTally = tally ?? { colonyLabel: colony.label, outcome: "treated", skipReason: null, skipNote: null, mites: null, beesSampled: null, notes: null };
+  const saveWash = (ml = mlText) => {
+    const { mites, bees, volume, complete } = washInput(ml);
+    if (!complete) return;
+    if (mites === (tally?.mites ?? null) && bees === (tally?.beesSampled ?? null) && volume === (tally?.sampleMl ?? null)) return;
+    save({ mites, beesSampled: bees, sampleMl: volume });
+  };
+  const washCheck = washInput();
+  const washHalf = !washCheck.complete;
+  const base: FieldTally = tally ?? { colonyLabel: colony.label, outcome: "treated", skipReason: null, skipNote: null, mites: null, beesSampled: null, sampleMl: null, notes: null };
   const save = (patch: Partial<FieldTally>) => onChange({ ...base, ...patch });
-  const assessment =
-    tally?.mites != null && tally.beesSampled != null && tally.beesSampled > 0 ? assessMiteLoad(tally.mites, tally.beesSampled, serviceDate, settings.miteThresholds) : null;
+  // Bees counted win; otherwise the estimate from the volume, as the server makes it.
+  const estimatedBees =
+    tally?.beesSampled == null && tally?.sampleMl != null && settings.beesPer100Ml ? beesFromSampleVolume(tally.sampleMl, settings.beesPer100Ml) : null;
+  const washBees = tally?.beesSampled ?? estimatedBees;
+  const assessment = tally?.mites != null && washBees != null && washBees > 0 ? assessMiteLoad(tally.mites, washBees, serviceDate, settings.miteThresholds) : null;
+  const halfCupMl = roundTo(HALF_US_CUP_ML, 1);
   return (
     <li className={`rounded-xl border-2 p-3 ${tally ? (tally.outcome === "treated" ? "border-pine-700 bg-pine-50" : "border-ochre-500 bg-ochre-100") : "border-line bg-card"}`} data-colony={colony.label}>
       <div className="flex flex-wrap items-center justify-between gap-2">
@@ -127,7 +141,7 @@ export function ColonyRow({
         </button>
       </div>
       {showWash && tally ? (
-        <div className="mt-2 grid grid-cols-2 gap-2">
+        <div className="mt-2 grid grid-cols-2 gap-2" data-wash={colony.label}>
           <label className="flex flex-col font-semibold">
             Mites counted
             <input
@@ -136,7 +150,7 @@ export function ColonyRow({
               min={0}
               value={mitesText}
               onChange={(e) => setMitesText(e.target.value)}
-              onBlur={saveWash}
+              onBlur={() => saveWash()}
               className="min-h-12 rounded-lg border-2 border-line bg-card px-3 text-lg"
             />
           </label>
@@ -148,14 +162,52 @@ export function ColonyRow({
               min={1}
               value={beesText}
               onChange={(e) => setBeesText(e.target.value)}
-              onBlur={saveWash}
+              onBlur={() => saveWash()}
               className="min-h-12 rounded-lg border-2 border-line bg-card px-3 text-lg"
             />
           </label>
-          {washHalf ? <p className="col-span-2 text-sm font-semibold text-ochre-700">Enter both the mites and the bees sampled.</p> : null}
+          <label className="col-span-2 flex flex-col font-semibold">
+            Or the sample volume (mL), when the bees were not counted
+            <span className="flex gap-2">
+              <input
+                type="number"
+                inputMode="decimal"
+                min={MIN_SAMPLE_ML}
+                max={MAX_SAMPLE_ML}
+                step={0.1}
+                value={mlText}
+                onChange={(e) => setMlText(e.target.value)}
+                onBlur={() => saveWash()}
+                className="min-h-12 min-w-0 flex-1 rounded-lg border-2 border-line bg-card px-3 text-lg"
+              />
+              <button
+                type="button"
+                onClick={() => {
+                  setMlText(String(halfCupMl));
+                  saveWash(String(halfCupMl));
+                }}
+                className="min-h-12 rounded-lg border-2 border-line bg-card px-3 font-semibold"
+              >
+                Half cup ({halfCupMl} mL)
+              </button>
+            </span>
+          </label>
+          {washHalf ? (
+            <p className="col-span-2 text-sm font-semibold text-ochre-700">
+              {washCheck.volumeOutOfRange
+                ? `Enter the sample volume from ${MIN_SAMPLE_ML} to ${MAX_SAMPLE_ML} mL.`
+                : "Enter the mites and either the bees sampled or the sample volume."}
+            </p>
+          ) : null}
+          {estimatedBees !== null ? (
+            <p className="col-span-2 text-sm font-semibold text-ink-soft">
+              About {estimatedBees} bees, estimated from {tally.sampleMl} mL at {settings.beesPer100Ml} bees per 100 mL (settings).
+            </p>
+          ) : null}
           {assessment ? (
             <p className={`col-span-2 rounded-lg px-3 py-2 font-bold ${assessment.level === "below" ? "bg-pine-50 text-pine-900" : "bg-alarm-100 text-alarm-700"}`} role="status">
-              {formatMitesPer100(assessment.mitesPer100)} mites per 100 bees — {assessment.level === "below" ? "below" : assessment.level === "at" ? "at" : "above"} the threshold of {assessment.threshold}
+              {formatMitesPer100(assessment.mitesPer100)} mites per 100 bees{estimatedBees !== null ? " (bees estimated)" : ""} —{" "}
+              {assessment.level === "below" ? "below" : assessment.level === "at" ? "at" : "above"} the threshold of {formatMitesPer100(assessment.threshold)}
             </p>
           ) : null}
         </div>

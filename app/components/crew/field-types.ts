@@ -20,7 +20,10 @@ export type FieldTally = {
   skipReason: SkipReason | null;
   skipNote: string | null;
   mites: number | null;
+  /** Bees counted in the wash sample (null when only its volume was given). */
   beesSampled: number | null;
+  /** The wash sample's volume in mL, when given instead of (or beside) the bees counted. */
+  sampleMl?: number | null;
   notes: string | null;
 };
 
@@ -53,6 +56,8 @@ export type FieldSettings = {
   blockMinC: number;
   blockMaxC: number;
   miteThresholds: { fromMonth: number; toMonth: number; mitesPer100: number }[];
+  /** Bees per 100 mL of sample, to show the estimate when only a volume is given (the server estimates regardless). */
+  beesPer100Ml?: number;
 };
 
 export type FieldRun = {

@@ -63,7 +63,7 @@ export default function VisitReportPage({ loaderData }: Route.ComponentProps) {
                 <Td>
                   {c.mites != null && c.beesSampled != null && c.mitesPer100 != null ? (
                     <>
-                      {c.mites} mites in {c.beesSampled} bees = {formatMitesPer100(c.mitesPer100)} per 100
+                      {c.mites} mites in {c.beesEstimated ? `about ${c.beesSampled} bees (estimated from a ${c.sampleMl} mL sample)` : `${c.beesSampled} bees`} = {formatMitesPer100(c.mitesPer100)} per 100
                       {c.level ? <span className="block text-sm">{LEVEL[c.level]} of {c.threshold}</span> : null}
                     </>
                   ) : (
