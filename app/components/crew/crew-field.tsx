@@ -43,9 +43,13 @@ export function CrewField({ serverRun, title }: { serverRun: FieldRun; title: st
       try {
         const { sent } = await box.syncOutbox();
         setSyncError(null);
+        setOnline(true);
         await refresh(box);
         if (sent > 0) void revalidate.current();
-      } catch {
+      } catch (error) {
+        // fetch fails with a TypeError when no network answers at all: that is no signal,
+        // whatever navigator.onLine says (it can stay true on a page the phone kept).
+        if (error instanceof TypeError) setOnline(false);
         setSyncError("Could not reach the office. Your work is kept on this phone and will be sent later.");
       }
     },
