@@ -1,3 +1,4 @@
+import { useEffect } from "react";
 import { isRouteErrorResponse, Links, Meta, Outlet, redirect, Scripts, ScrollRestoration } from "react-router";
 import type { Route } from "./+types/root";
 import "./app.css";
@@ -18,6 +19,11 @@ export async function loader({ request }: Route.LoaderArgs) {
 export const links: Route.LinksFunction = () => [{ rel: "icon", href: "/favicon.svg", type: "image/svg+xml" }];
 
 export function Layout({ children }: { children: React.ReactNode }) {
+  // Marks the page as interactive once React has taken over the server's HTML: a value typed
+  // before that would be dropped by hydration, so the browser tests wait for this mark.
+  useEffect(() => {
+    document.documentElement.dataset.hydrated = "true";
+  }, []);
   return (
     <html lang="en">
       <head>

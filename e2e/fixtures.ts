@@ -1,4 +1,4 @@
-import { test as base, expect, type Page } from "@playwright/test";
+import { test as base, expect, type Page, type Response } from "@playwright/test";
 
 export const DEMO_PASSWORD = "demo-bees-2026";
 export const DEMO = {
@@ -18,8 +18,40 @@ export const HOMES: Record<DemoRole, string> = {
   customer: "/portal",
 };
 
+/** After a page load answered with HTML, waits until React has hydrated it (app/root.tsx sets
+ *  the mark): typing into a field before then is lost when React takes the page over. */
+async function untilHydrated(page: Page, response: Response | null): Promise<void> {
+  if (!response || !(response.headers()["content-type"] ?? "").startsWith("text/html")) return;
+  await page.locator("html[data-hydrated]").waitFor({ state: "attached" });
+}
+
+const patched = new WeakSet<Page>();
+
+/** Makes page.goto and page.reload return only once an HTML page is hydrated. Done for the test's
+ *  own page and by signIn for pages a test opens itself. */
+export function waitForHydrationOnLoad(page: Page): void {
+  if (patched.has(page)) return;
+  patched.add(page);
+  const goto = page.goto.bind(page);
+  const reload = page.reload.bind(page);
+  page.goto = async (...args) => {
+    const response = await goto(...args);
+    await untilHydrated(page, response);
+    return response;
+  };
+  page.reload = async (...args) => {
+    const response = await reload(...args);
+    await untilHydrated(page, response);
+    return response;
+  };
+}
+
 /** Every page is checked for requests that would leave the machine: none may. */
 export const test = base.extend<{ offlineGuard: void }>({
+  page: async ({ page }, use) => {
+    waitForHydrationOnLoad(page);
+    await use(page);
+  },
   offlineGuard: [
     async ({ context }, use) => {
       const outside: string[] = [];
@@ -38,6 +70,7 @@ export const test = base.extend<{ offlineGuard: void }>({
 export { expect };
 
 export async function signIn(page: Page, email: string, password = DEMO_PASSWORD) {
+  waitForHydrationOnLoad(page);
   await page.goto("/sign-in");
   await page.getByLabel("E-mail").fill(email);
   await page.getByLabel("Password").fill(password);
