@@ -163,7 +163,7 @@ test("a new business: the first visit leads to setup, which makes the owner and 
   await page.getByLabel("Product name").fill("Oxalic acid dihydrate, beekeeping grade");
   await page.getByLabel("Registration number").fill("TEST-REG-0001");
   await page.getByLabel("Label maximum per brood box").fill("1");
-  await page.getByLabel("Dose per brood box", { exact: true }).fill("1");
+  await page.getByLabel("Dose per deep brood box", { exact: true }).fill("1");
   await page.getByLabel("Price per colony").fill("12.50");
   await page.getByLabel("Trip fee per yard").fill("30");
   await page.getByLabel("Tax rate").fill("0");

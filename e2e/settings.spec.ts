@@ -17,15 +17,36 @@ test("the owner changes the dose rate and units, and the yard plan shows the new
   await page.goto("/dispatch/settings");
   await page.screenshot({ path: "test-results/screenshots/settings-owner-1280.png", fullPage: true });
   // A dose above the label maximum is refused at its field, and nothing is saved.
-  await page.getByLabel("Dose per brood box").fill("2");
+  await page.getByLabel("Dose per deep brood box").fill("2");
   await page.getByRole("button", { name: "Save settings" }).click();
   await expect(page.getByText("Nothing was saved. Correct the fields marked below.")).toBeVisible();
-  await expect(page.getByLabel("Dose per brood box")).toHaveAttribute("aria-invalid", "true");
+  await expect(page.getByLabel("Dose per deep brood box")).toHaveAttribute("aria-invalid", "true");
+  await expect(page.getByText(/exceeds the label maximum you entered \(1 g\).*tick “My label allows this dose”/)).toBeVisible();
   await page.reload();
-  await expect(page.getByLabel("Dose per brood box")).toHaveValue("1");
+  await expect(page.getByLabel("Dose per deep brood box")).toHaveValue("1");
+
+  // A course with brood whose rounds do not span the capped-brood period is refused at its field.
+  await page.getByLabel("Days between rounds").fill("5");
+  await page.getByRole("button", { name: "Save settings" }).click();
+  await expect(page.getByLabel("Rounds with brood")).toHaveAttribute("aria-invalid", "true");
+  await expect(page.getByText(/3 rounds 5 days apart span 10 days; a course with brood must span at least 12 days/)).toBeVisible();
+  await page.reload();
+  await expect(page.getByLabel("Days between rounds")).toHaveValue("7");
+
+  // Above the label with the owner's confirmation: saved, and the page says so.
+  await page.getByLabel("Dose per deep brood box").fill("1.5");
+  await page.getByLabel("My label allows this dose").check();
+  await page.getByRole("button", { name: "Save settings" }).click();
+  await expect(page.getByText("Settings saved.")).toBeVisible();
+  await expect(page.getByRole("note").filter({ hasText: "Above the label maximum of 1 g per brood box: deep boxes 1.5 g" })).toBeVisible();
+  await expect(page.getByLabel("My label allows this dose")).not.toBeChecked();
+  const [audit] = await queryTestDatabase<{ rate: string; confirmed: boolean }>(
+    "select after->>'doseGramsPerBroodBox' as rate, (after->>'doseAboveLabelConfirmed')::boolean as confirmed from audit_log where action = 'settings.update' order by id desc limit 1",
+  );
+  expect(audit).toEqual({ rate: "1.5", confirmed: true });
 
   await page.getByLabel("Label maximum per brood box").fill("4");
-  await page.getByLabel("Dose per brood box").fill("2");
+  await page.getByLabel("Dose per deep brood box").fill("2");
   await page.getByLabel("Units").selectOption("metric");
   await page.getByRole("button", { name: "Save settings" }).click();
   await expect(page.getByText("Settings saved.")).toBeVisible();
@@ -38,7 +59,7 @@ test("the owner changes the dose rate and units, and the yard plan shows the new
 
   // Put the defaults back for the tests that follow.
   await page.goto("/dispatch/settings");
-  await page.getByLabel("Dose per brood box").fill("1");
+  await page.getByLabel("Dose per deep brood box").fill("1");
   await page.getByLabel("Label maximum per brood box").fill("1");
   await page.getByLabel("Units").selectOption("us");
   await page.getByRole("button", { name: "Save settings" }).click();
@@ -49,7 +70,7 @@ test("the dispatcher reads the settings but cannot change them", async ({ page }
   await signIn(page, DEMO.dispatcher);
   await page.goto("/dispatch/settings");
   await expect(page.getByText("Only the owner can change these settings.")).toBeVisible();
-  await expect(page.getByLabel("Dose per brood box")).toBeDisabled();
+  await expect(page.getByLabel("Dose per deep brood box")).toBeDisabled();
   await expect(page.getByRole("button", { name: "Save settings" })).toHaveCount(0);
   const response = await page.request.post("/dispatch/settings", { form: { doseGramsPerBroodBox: "1" }, maxRedirects: 0 });
   expect(response.status()).toBe(403);

@@ -19,7 +19,7 @@ export function SettingField({
   defaultValue: string;
   error?: string;
   readOnly: boolean;
-  kind?: "number" | "text" | "select";
+  kind?: "number" | "text" | "select" | "checkbox";
   unit?: string;
   options?: { value: string; label: string }[];
   step?: string;
@@ -36,7 +36,10 @@ export function SettingField({
       </label>
       <div>
         <div className="flex max-w-md items-center gap-2">
-          {kind === "select" ? (
+          {kind === "checkbox" ? (
+            // A confirmation: posted as "on" when ticked, never shown ticked from before.
+            <input id={id} name={name} type="checkbox" disabled={readOnly} aria-describedby={described} aria-invalid={error ? true : undefined} className="h-7 w-7 accent-pine-700" />
+          ) : kind === "select" ? (
             <select id={id} name={name} defaultValue={defaultValue} disabled={readOnly} aria-describedby={described} aria-invalid={error ? true : undefined} className={inputClass}>
               {options?.map((o) => (
                 <option key={o.value} value={o.value}>
@@ -58,7 +61,7 @@ export function SettingField({
               className={inputClass}
             />
           )}
-          {shownUnit && kind !== "select" ? <span className="shrink-0 font-semibold text-ink-soft">{shownUnit}</span> : null}
+          {shownUnit && kind !== "select" && kind !== "checkbox" ? <span className="shrink-0 font-semibold text-ink-soft">{shownUnit}</span> : null}
         </div>
         {error ? (
           <p id={`${id}-error`} className="mt-1 font-semibold text-alarm-700">

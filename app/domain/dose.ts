@@ -85,24 +85,32 @@ export function doseGramsForSeason(doseGrams: readonly number[]): number {
   return sumDoseGrams(doseGrams, "dose");
 }
 
+/** One problem with a dose rate; `aboveLabel` marks the one an owner may confirm. */
+export interface DoseRateProblem {
+  message: string;
+  aboveLabel: boolean;
+}
+
 /**
- * Problems with a dose rate (empty when fine): it must be a positive number and must not
- * exceed the label maximum per brood box that the business entered from its product label.
- * Compared in centigrams, so 1.00 vs 1 is never a false alarm.
+ * Problems with a dose rate (empty when fine): it must be a positive number, and a rate
+ * above the label maximum per brood box the business entered from its product label is
+ * flagged (the settings save it only with the owner's confirmation). Compared in
+ * centigrams, so 1.00 vs 1 is never a false alarm.
  */
-export function doseRateProblems(doseGramsPerBroodBox: number, labelMaximumGramsPerBroodBox: number): string[] {
-  const problems: string[] = [];
+export function doseRateProblems(doseGramsPerBroodBox: number, labelMaximumGramsPerBroodBox: number): DoseRateProblem[] {
+  const problems: DoseRateProblem[] = [];
   if (!Number.isFinite(doseGramsPerBroodBox) || doseGramsPerBroodBox <= 0) {
-    problems.push("The dose per brood box must be more than 0 g.");
+    problems.push({ message: "The dose per brood box must be more than 0 g.", aboveLabel: false });
   }
   if (!Number.isFinite(labelMaximumGramsPerBroodBox) || labelMaximumGramsPerBroodBox <= 0) {
-    problems.push("Enter the label's maximum dose per brood box (more than 0 g).");
+    problems.push({ message: "Enter the label's maximum dose per brood box (more than 0 g).", aboveLabel: false });
   }
   if (problems.length > 0) return problems;
   if (gramsToCentigrams(doseGramsPerBroodBox) > gramsToCentigrams(labelMaximumGramsPerBroodBox)) {
-    problems.push(
-      `The dose per brood box (${roundDoseGrams(doseGramsPerBroodBox)} g) exceeds the label maximum you entered (${roundDoseGrams(labelMaximumGramsPerBroodBox)} g). Follow the product label.`,
-    );
+    problems.push({
+      message: `The dose (${roundDoseGrams(doseGramsPerBroodBox)} g per box) exceeds the label maximum you entered (${roundDoseGrams(labelMaximumGramsPerBroodBox)} g). Follow the product label.`,
+      aboveLabel: true,
+    });
   }
   return problems;
 }

@@ -22,6 +22,9 @@
  *   during that wait).
  * - `setupMinutes` covers parking, unloading, lighting and suiting up, and greeting.
  *
+ * - A colony whose dose is more than one vaporizer load takes several loads; each load is a
+ *   dose slot of its own, so the cycles count loads: ceil(colonies × loads / V).
+ *
  *   serviceMinutesForYard = setup + cycles × sublimation + (cycles − 1) × gap + entranceClosed
  *
  * A yard with 0 colonies needs no visit, so it takes 0 minutes (no set-up either). The
@@ -47,6 +50,8 @@ export interface YardServiceInput extends HiveCycle {
   vaporizers: number;
   /** Minutes of set-up at the yard (parking, unloading, suiting up, pack-up excluded). */
   setupMinutes: number;
+  /** Vaporizer loads each colony's dose takes (default 1): a dose above one load is given in several. */
+  loadsPerColony?: number;
 }
 
 function assertMinutes(value: number, what: string): void {
@@ -84,7 +89,10 @@ export function treatmentCycles(colonies: number, vaporizers: number): number {
 export function serviceMinutesForYard(input: YardServiceInput): number {
   assertCycle(input);
   assertMinutes(input.setupMinutes, "set-up minutes");
-  const cycles = treatmentCycles(input.colonies, input.vaporizers);
+  const loads = input.loadsPerColony ?? 1;
+  if (!Number.isInteger(loads) || loads < 1) throw new RangeError(`loads per colony must be a whole number ≥ 1, got ${loads}`);
+  // Each load is one dose slot on a vaporizer, with the block back at temperature between them.
+  const cycles = treatmentCycles(input.colonies * loads, input.vaporizers);
   if (cycles === 0) return 0;
   return (
     input.setupMinutes +

@@ -8,7 +8,9 @@
 
 import { z } from "zod";
 import { checkVaporizerBand } from "./chemistry";
-import { doseRateProblems } from "./dose";
+import { BOX_TYPES, BOX_TYPE_LABELS, DOSE_RATE_FIELD } from "./box-types";
+import { doseRateProblems, gramsToCentigrams, roundDoseGrams } from "./dose";
+import { plannedCourseSpanProblem } from "./treatment-guards";
 import { monthsWithSeveralThresholds, monthsWithoutThreshold, type MiteThreshold } from "./mites";
 
 const MONTH_NAMES = [
@@ -106,7 +108,12 @@ export const businessSettingsSchema = z
     customerChangeCutoffHours: wholeNumberField("the change cut-off", 0, 336, "hours").default(48),
 
     doseGramsPerBroodBox: numberField("the dose per brood box", 0.01, 10, "g").default(1),
+    doseGramsPerMediumBox: numberField("the dose per medium box", 0.01, 10, "g").default(0.7),
+    doseGramsPerNucBox: numberField("the dose per nuc box", 0.01, 10, "g").default(0.5),
     labelMaximumGramsPerBroodBox: numberField("the label maximum per brood box", 0.01, 10, "g").default(1),
+    // Ticked on the form by the owner who saves a rate above the label figure; never kept ticked.
+    doseAboveLabelConfirmed: z.boolean({ error: "Tick the box or leave it empty." }).default(false),
+    vaporizerLoadGrams: numberField("the vaporizer load", 0.1, 20, "g").default(2),
     productName: z
       .string({ error: "Enter the product name." })
       .trim()
@@ -122,6 +129,10 @@ export const businessSettingsSchema = z
 
     roundsWithBrood: wholeNumberField("rounds with brood", 1, 7).default(3),
     roundIntervalDays: wholeNumberField("the interval between rounds", 4, 10, "days").default(7),
+    maxApplicationsPerColonyPerSeason: wholeNumberField("applications per colony per season", 1, 20).default(4),
+    airTempMinC: numberField("the lowest air temperature", -30, 45, "°C").default(4),
+    airTempMaxC: numberField("the highest air temperature", -30, 50, "°C").default(30),
+    recordRetentionYears: wholeNumberField("the record retention", 1, 10, "years").default(2),
 
     miteThresholds: z
       .array(miteThresholdSchema, { error: "Enter the seasonal thresholds." })
@@ -156,8 +167,29 @@ export const businessSettingsSchema = z
     overdueReminderDays: wholeNumberField("the overdue reminder", 1, 90, "days").default(7),
   })
   .superRefine((settings, ctx) => {
-    for (const message of doseRateProblems(settings.doseGramsPerBroodBox, settings.labelMaximumGramsPerBroodBox)) {
-      ctx.addIssue({ code: "custom", message, path: ["doseGramsPerBroodBox"] });
+    for (const boxType of BOX_TYPES) {
+      const field = DOSE_RATE_FIELD[boxType];
+      for (const problem of doseRateProblems(settings[field], settings.labelMaximumGramsPerBroodBox)) {
+        if (problem.aboveLabel && settings.doseAboveLabelConfirmed) continue; // the owner confirmed it
+        const message = problem.aboveLabel
+          ? `${problem.message} To save it anyway, tick “My label allows this dose”.`
+          : problem.message;
+        ctx.addIssue({ code: "custom", message, path: [field] });
+      }
+    }
+    // Only once both figures are valid on their own (their own messages come first).
+    const wellFormed = Number.isInteger(settings.roundsWithBrood) && settings.roundsWithBrood >= 1 && Number.isFinite(settings.roundIntervalDays);
+    const span = wellFormed ? plannedCourseSpanProblem(settings.roundsWithBrood, settings.roundIntervalDays) : null;
+    if (span) ctx.addIssue({ code: "custom", message: span, path: ["roundsWithBrood"] });
+    if (settings.maxApplicationsPerColonyPerSeason < settings.roundsWithBrood) {
+      ctx.addIssue({
+        code: "custom",
+        message: `Allow at least ${settings.roundsWithBrood} applications per colony per season: a course with brood has ${settings.roundsWithBrood} rounds.`,
+        path: ["maxApplicationsPerColonyPerSeason"],
+      });
+    }
+    if (settings.airTempMinC >= settings.airTempMaxC) {
+      ctx.addIssue({ code: "custom", message: "The highest air temperature must be above the lowest.", path: ["airTempMaxC"] });
     }
     for (const problem of checkVaporizerBand({ minC: settings.blockMinC, maxC: settings.blockMaxC })) {
       if (problem.severity !== "error") continue; // warnings are shown, never block saving
@@ -187,6 +219,16 @@ export const businessSettingsSchema = z
 
 /** The business's operative settings. */
 export type BusinessSettings = z.output<typeof businessSettingsSchema>;
+
+/** The box types whose dose rate lies above the label maximum per brood box (compared in 0.01 g). */
+export function doseRatesAboveLabel(settings: BusinessSettings): { boxType: (typeof BOX_TYPES)[number]; label: string; grams: number }[] {
+  const limit = gramsToCentigrams(settings.labelMaximumGramsPerBroodBox);
+  return BOX_TYPES.filter((t) => gramsToCentigrams(settings[DOSE_RATE_FIELD[t]]) > limit).map((t) => ({
+    boxType: t,
+    label: BOX_TYPE_LABELS[t],
+    grams: roundDoseGrams(settings[DOSE_RATE_FIELD[t]]),
+  }));
+}
 
 /** Every default setting. */
 export const defaultBusinessSettings: BusinessSettings = businessSettingsSchema.parse({});
@@ -233,17 +275,29 @@ export const settingsFieldInfo: Record<keyof BusinessSettings, SettingsFieldInfo
     explanation: "Show masses, temperatures and distances in metric or US units; doses always show grams, as labels do.",
   },
   doseGramsPerBroodBox: {
-    label: "Dose per brood box",
+    label: "Dose per deep brood box",
     unit: "g",
-    explanation: "Grams of oxalic acid dihydrate vaporized per brood box; a colony's dose is this times its brood boxes.",
+    explanation: "Grams of oxalic acid dihydrate vaporized per deep brood box; a colony's dose is its brood boxes times their type's rate.",
     source:
       "US label (EPA Reg. No. 73291-2): 1 g per brood chamber, as cited in Tellarini Prieto et al. 2024, Front. Bee Sci., doi:10.3389/frbee.2024.1442030",
+  },
+  doseGramsPerMediumBox: {
+    label: "Dose per medium brood box",
+    unit: "g",
+    explanation: "Grams per medium (shallower) brood box. A medium holds about two thirds of a deep's volume.",
+    source: "Common practice: rates per box scaled by the box's volume; Langstroth box depths of 9⅝ in (deep) and 6⅝ in (medium), from memory",
+  },
+  doseGramsPerNucBox: {
+    label: "Dose per nuc box",
+    unit: "g",
+    explanation: "Grams per small single box of a nucleus colony (about five frames).",
+    source: "Common practice: about half a ten-frame deep's dose for a five-frame nuc",
   },
   labelMaximumGramsPerBroodBox: {
     label: "Label maximum per brood box",
     unit: "g",
     explanation:
-      "The most your product label allows per brood box; Varroute refuses a dose rate above it. Enter it from your own label.",
+      "The most your product label allows per brood box. A dose rate above it is saved only when you tick that your label allows it, and every crew screen then says so.",
     source:
       "US label before 2025: 1 g per brood chamber; the amended label (2025-06-24, as reported) allows up to 4 g — check the label on your package",
   },
@@ -265,6 +319,43 @@ export const settingsFieldInfo: Record<keyof BusinessSettings, SettingsFieldInfo
       "Treatment rounds planned for a yard with brood or unknown brood; a broodless yard gets one, as the vapor does not reach mites under cappings.",
     source:
       "Common practice: 3 rounds 5–7 days apart; Berry et al. 2022, J. Insect Sci., PMC8825467 (7 rounds at 5-day spacing harmed neither bees nor brood); EU summary of product characteristics (UK VMD, 2015) on broodless colonies",
+  },
+  doseAboveLabelConfirmed: {
+    label: "My label allows this dose",
+    unit: "",
+    explanation: "Tick only when a dose rate above the label maximum you entered is what your product's label allows; the label is the law.",
+  },
+  vaporizerLoadGrams: {
+    label: "Vaporizer load",
+    unit: "g",
+    explanation: "The most acid your vaporizer takes in one load; a colony's dose above it is given in several loads, and the time at the yard grows with them.",
+    source: "Common practice: small pan vaporizers take about 1–2 g a load; check your own",
+  },
+  maxApplicationsPerColonyPerSeason: {
+    label: "Applications per colony per season",
+    unit: "applications",
+    explanation:
+      "The most treated tallies one colony may get in a calendar year; the crew screen refuses one more. It must allow a whole course with brood.",
+    source: "Common practice: a course of 3 rounds with brood and one broodless round in winter; follow your label's limit where it gives one",
+  },
+  airTempMinC: {
+    label: "Lowest air temperature",
+    unit: "°C",
+    explanation: "The crew records the air temperature at each yard; below this the crew screen warns before treating.",
+    source: "Common practice, from memory: about 4 °C (40 °F), when the bees cluster tightly",
+  },
+  airTempMaxC: {
+    label: "Highest air temperature",
+    unit: "°C",
+    explanation: "Above this the crew screen warns before treating: in hot weather the bees beard outside and the entrance cannot stay closed long.",
+    source: "Common practice, from memory: about 30 °C (86 °F)",
+  },
+  recordRetentionYears: {
+    label: "Keep application records",
+    unit: "years",
+    explanation:
+      "When a customer deletes their account, their name and the place of each treatment stay on the application records this long after the last treatment, then are removed.",
+    source: "US restricted-use pesticide records are kept at least 2 years (US EPA certification rule, as summarised by pesticidestewardship.org); your state may ask for longer",
   },
   roundIntervalDays: {
     label: "Days between rounds",

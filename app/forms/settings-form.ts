@@ -8,6 +8,9 @@ import type { BusinessSettings } from "~/domain/settings";
 export const MONEY_FIELDS = ["pricePerColonyCents", "tripFeeCents", "minimumPerVisitCents"] as const;
 export const TEXT_FIELDS = ["businessName", "businessAddress", "businessPhone", "contactEmail", "unitSystem", "productName", "productRegistrationNumber", "timeZone"] as const;
 
+/** Checkboxes: present when ticked. */
+export const CHECKBOX_FIELDS = ["doseAboveLabelConfirmed"] as const;
+
 function toNumber(value: unknown): number {
   if (typeof value !== "string" || value.trim() === "") return Number.NaN;
   return Number(value.trim().replace(/,/g, ""));
@@ -30,10 +33,12 @@ export function settingsInputFromForm(values: Record<string, string | string[]>)
       row[threshold[2]] = toNumber(value);
       thresholds.set(Number(threshold[1]), row);
     } else if ((TEXT_FIELDS as readonly string[]).includes(name)) input[name] = value;
+    else if ((CHECKBOX_FIELDS as readonly string[]).includes(name)) input[name] = value === "on" || value === "true";
     else if ((MONEY_FIELDS as readonly string[]).includes(name)) input[name] = toCents(value);
     else if (name === "taxRatePercent") input.taxRateBasisPoints = Math.round(toNumber(value) * 100);
     else if (!name.startsWith("_")) input[name] = toNumber(value);
   }
+  for (const name of CHECKBOX_FIELDS) input[name] ??= false;
   input.miteThresholds = [...thresholds.entries()]
     .sort(([a], [b]) => a - b)
     .map(([, row]) => row)
@@ -47,6 +52,8 @@ export function settingsFormDefaults(settings: BusinessSettings): Record<string,
   const out: Record<string, string> = {};
   for (const [key, value] of Object.entries(settings)) {
     if (key === "miteThresholds") continue;
+    // A confirmation is given anew at each save, never shown ticked.
+    if ((CHECKBOX_FIELDS as readonly string[]).includes(key)) continue;
     if ((MONEY_FIELDS as readonly string[]).includes(key)) out[key] = ((value as number) / 100).toFixed(2);
     else if (key === "taxRateBasisPoints") out.taxRatePercent = String((value as number) / 100);
     else out[key] = String(value);

@@ -1,3 +1,4 @@
+import { roundDoseGrams } from "~/domain/dose";
 import { z } from "zod";
 import { businessSettingsSchema, defaultBusinessSettings, type BusinessSettings } from "~/domain/settings";
 import { newPasswordSchema } from "./account";
@@ -80,7 +81,18 @@ const one = (value: string | string[] | undefined) => (Array.isArray(value) ? va
 function settingsInput(values: Record<string, string | string[]>): Record<string, unknown> {
   const picked = Object.fromEntries(SETUP_SETTINGS_FIELDS.map((name) => [name, one(values[name]) ?? ""]));
   const { miteThresholds: _none, ...converted } = settingsInputFromForm(picked);
-  return { ...defaultBusinessSettings, ...converted };
+  // The form asks for the deep box's rate only; medium and nuc boxes keep their default share
+  // of it, so they never pass the label maximum the deep rate keeps to.
+  const deep = converted.doseGramsPerBroodBox;
+  const d = defaultBusinessSettings;
+  const scaled =
+    typeof deep === "number" && Number.isFinite(deep) && deep > 0
+      ? {
+          doseGramsPerMediumBox: Math.max(0.01, roundDoseGrams((deep * d.doseGramsPerMediumBox) / d.doseGramsPerBroodBox)),
+          doseGramsPerNucBox: Math.max(0.01, roundDoseGrams((deep * d.doseGramsPerNucBox) / d.doseGramsPerBroodBox)),
+        }
+      : {};
+  return { ...defaultBusinessSettings, ...converted, ...scaled };
 }
 
 /** The posted setup form, checked: the input to save, or a message per field. */

@@ -38,6 +38,8 @@ export interface CustomerRow extends Stamps {
   notes: string | null;
   stripe_customer_id: string | null;
   anonymised_at: Date | null;
+  /** After an account deletion: the day its application-record fields are removed. */
+  records_kept_until: string | null;
 }
 
 export interface YardRow extends Stamps {
@@ -53,6 +55,7 @@ export interface YardRow extends Stamps {
   brood_status: BroodStatus;
   supers_off: boolean;
   archived_at: Date | null;
+  box_type: "deep" | "medium" | "nuc";
 }
 
 export interface ColonyRow extends Stamps {
@@ -63,6 +66,7 @@ export interface ColonyRow extends Stamps {
   brood_status: BroodStatus;
   active: boolean;
   notes: string | null;
+  box_type: "deep" | "medium" | "nuc";
 }
 
 export interface CrewRow extends Stamps {
@@ -148,6 +152,8 @@ export interface VisitRow extends Stamps {
   product_registration_number: string | null;
   notes: string | null;
   defer_reason: string | null;
+  /** Air temperature the crew read at the yard, °C. */
+  air_temp_c: string | null;
 }
 
 export interface RunRow extends Stamps {
@@ -196,6 +202,7 @@ export interface TallyRow extends Stamps {
   recorded_by: Id | null;
   recorded_at: Date;
   idempotency_key: string | null;
+  box_type: "deep" | "medium" | "nuc";
 }
 
 export interface InvoiceSequenceRow {

@@ -140,10 +140,11 @@ describe("dose rate against the label maximum", () => {
     expect(doseRateProblems(4.01, 4)).toHaveLength(1);
   });
 
-  it("refuses a rate above the label maximum entered", () => {
+  it("flags a rate above the label maximum entered, as the one problem an owner may confirm", () => {
     const problems = doseRateProblems(2, 1);
     expect(problems).toHaveLength(1);
-    expect(problems[0]).toMatch(/label/i);
+    expect(problems[0].message).toMatch(/label/i);
+    expect(problems[0].aboveLabel).toBe(true);
     expect(isDoseRateWithinLabel(2, 1)).toBe(false);
   });
 
@@ -154,6 +155,7 @@ describe("dose rate against the label maximum", () => {
 
   it("refuses a zero or missing rate or maximum", () => {
     expect(doseRateProblems(0, 1)).toHaveLength(1);
+    expect(doseRateProblems(0, 1)[0].aboveLabel).toBe(false);
     expect(doseRateProblems(1, 0)).toHaveLength(1);
     expect(doseRateProblems(Number.NaN, Number.NaN)).toHaveLength(2);
   });

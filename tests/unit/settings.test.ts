@@ -6,6 +6,7 @@ import {
   DEFAULT_MITE_THRESHOLDS,
   businessSettingsSchema,
   defaultBusinessSettings,
+  doseRatesAboveLabel,
   settingsFieldInfo,
   validateBusinessSettings,
 } from "~/domain/settings";
@@ -141,12 +142,54 @@ describe("validation messages per field", () => {
   });
 
   it("keeps the interval between 4 and 10 days and the rounds whole", () => {
-    expect(validateBusinessSettings({ roundIntervalDays: 4 }).ok).toBe(true);
+    expect(validateBusinessSettings({ roundIntervalDays: 4, roundsWithBrood: 4 }).ok).toBe(true);
     expect(validateBusinessSettings({ roundIntervalDays: 10 }).ok).toBe(true);
     expect(errorsFor({ roundIntervalDays: 3 }).roundIntervalDays?.[0]).toMatch(/at least 4/);
     expect(errorsFor({ roundIntervalDays: 11 }).roundIntervalDays?.[0]).toMatch(/at most 10/);
     expect(errorsFor({ roundsWithBrood: 2.5 }).roundsWithBrood?.[0]).toMatch(/whole number/);
     expect(errorsFor({ roundsWithBrood: 0 })).toHaveProperty("roundsWithBrood");
+  });
+
+  it("refuses a course with brood that does not span the capped-brood period", () => {
+    // Source: Winston 1987, The Biology of the Honey Bee — a worker cell stays capped 12 days (from memory).
+    // 3 rounds 5 days apart span 10 days: a cell capped just after round 1 opens after round 3.
+    expect(errorsFor({ roundsWithBrood: 3, roundIntervalDays: 5 }).roundsWithBrood?.[0]).toMatch(/span 10 days.*at least 12 days/);
+    // 3 rounds 6 days apart span exactly 12 days; the default 3 × 7 spans 14.
+    expect(validateBusinessSettings({ roundsWithBrood: 3, roundIntervalDays: 6, maxApplicationsPerColonyPerSeason: 4 }).ok).toBe(true);
+    expect(validateBusinessSettings({}).ok).toBe(true);
+    // One round with brood spans nothing.
+    expect(errorsFor({ roundsWithBrood: 1 }).roundsWithBrood?.[0]).toMatch(/One round spans 0 days/);
+    // 7 rounds 5 days apart (a 2022 trial's schedule) span 30 days.
+    // Source: Berry et al. 2022, J. Insect Sci., PMC8825467.
+    expect(validateBusinessSettings({ roundsWithBrood: 7, roundIntervalDays: 5, maxApplicationsPerColonyPerSeason: 8 }).ok).toBe(true);
+  });
+
+  it("allows at least a whole course's applications per colony per season", () => {
+    expect(errorsFor({ roundsWithBrood: 3, maxApplicationsPerColonyPerSeason: 2 }).maxApplicationsPerColonyPerSeason?.[0]).toMatch(/at least 3/);
+    expect(validateBusinessSettings({ roundsWithBrood: 3, maxApplicationsPerColonyPerSeason: 3 }).ok).toBe(true);
+    expect(errorsFor({ maxApplicationsPerColonyPerSeason: 0 })).toHaveProperty("maxApplicationsPerColonyPerSeason");
+  });
+
+  it("needs the air temperature band's top above its bottom", () => {
+    expect(errorsFor({ airTempMinC: 10, airTempMaxC: 10 }).airTempMaxC?.[0]).toMatch(/above the lowest/);
+    expect(validateBusinessSettings({ airTempMinC: -5, airTempMaxC: 35 }).ok).toBe(true);
+  });
+
+  it("saves a dose rate above the label maximum only with the owner's confirmation, for every box type", () => {
+    expect(errorsFor({ doseGramsPerMediumBox: 1.5, labelMaximumGramsPerBroodBox: 1 }).doseGramsPerMediumBox?.[0]).toMatch(/label maximum.*tick/i);
+    expect(errorsFor({ doseGramsPerNucBox: 1.2 }).doseGramsPerNucBox?.[0]).toMatch(/label maximum/);
+    const confirmed = validateBusinessSettings({ doseGramsPerBroodBox: 2, labelMaximumGramsPerBroodBox: 1, doseAboveLabelConfirmed: true });
+    expect(confirmed.ok).toBe(true);
+    if (confirmed.ok) expect(doseRatesAboveLabel(confirmed.settings).map((r) => r.boxType)).toEqual(["deep"]);
+    // A confirmation never excuses a rate of 0.
+    expect(errorsFor({ doseGramsPerBroodBox: 0, doseAboveLabelConfirmed: true })).toHaveProperty("doseGramsPerBroodBox");
+    expect(doseRatesAboveLabel(defaultBusinessSettings)).toEqual([]);
+  });
+
+  it("keeps application records 2 years unless the business sets longer", () => {
+    // Source: US EPA certification rule, restricted-use records kept ≥ 2 years, as summarised by pesticidestewardship.org.
+    expect(defaultBusinessSettings.recordRetentionYears).toBe(2);
+    expect(errorsFor({ recordRetentionYears: 0 })).toHaveProperty("recordRetentionYears");
   });
 
   it("refuses fractional cents, unknown time zones, unit systems and non-numbers", () => {

@@ -6,7 +6,7 @@ import { Card, PageHeader } from "~/components/ui/card";
 import { FormMessage } from "~/components/ui/field";
 import { formValues } from "~/forms/field-errors";
 import { settingsFormDefaults } from "~/forms/settings-form";
-import { settingsFieldInfo, type BusinessSettings } from "~/domain/settings";
+import { doseRatesAboveLabel, settingsFieldInfo, type BusinessSettings } from "~/domain/settings";
 import { checkVaporizerBand } from "~/domain/chemistry";
 import { celsiusToFahrenheit, kilometresToMiles, roundTo } from "~/domain/units";
 import { loadBusinessSettings, updateBusinessSettingsFromForm } from "~/models/settings.server";
@@ -41,7 +41,7 @@ function usHint(settings: BusinessSettings, key: string, value: string): string 
   if (settings.unitSystem !== "us") return undefined;
   const n = Number(value);
   if (!Number.isFinite(n)) return undefined;
-  if (key === "blockMinC" || key === "blockMaxC") return `(${roundTo(celsiusToFahrenheit(n), 0)} °F)`;
+  if (key === "blockMinC" || key === "blockMaxC" || key === "airTempMinC" || key === "airTempMaxC") return `(${roundTo(celsiusToFahrenheit(n), 0)} °F)`;
   if (key === "averageSpeedKmh") return `(${roundTo(kilometresToMiles(n), 1)} mph)`;
   return undefined;
 }
@@ -51,8 +51,9 @@ const SECTIONS: Section[] = [
   { title: "Business", fields: ["businessName", "businessAddress", "businessPhone", "contactEmail"] },
   { title: "Customer bookings", fields: ["customerChangeCutoffHours"] },
   { title: "Units and time", fields: ["unitSystem", "timeZone"] },
-  { title: "Product and dose", fields: ["productName", "productRegistrationNumber", "labelMaximumGramsPerBroodBox", "doseGramsPerBroodBox"] },
-  { title: "Treatment course", fields: ["roundsWithBrood", "roundIntervalDays"] },
+  { title: "Product and dose", fields: ["productName", "productRegistrationNumber", "labelMaximumGramsPerBroodBox", "doseGramsPerBroodBox", "doseGramsPerMediumBox", "doseGramsPerNucBox", "doseAboveLabelConfirmed", "vaporizerLoadGrams"] },
+  { title: "Treatment course", fields: ["roundsWithBrood", "roundIntervalDays", "maxApplicationsPerColonyPerSeason", "airTempMinC", "airTempMaxC"] },
+  { title: "Records", fields: ["recordRetentionYears"] },
   { title: "Mite monitoring", fields: ["beesPer100Ml"] },
   { title: "Vaporizer and time at a yard", fields: ["blockMinC", "blockMaxC", "sublimationSeconds", "blockReheatSeconds", "moveBetweenHivesMinutes", "entranceClosedMinutes", "setupMinutes", "vaporizersPerCrew"] },
   { title: "Driving estimate", fields: ["circuityFactor", "averageSpeedKmh"] },
@@ -66,6 +67,7 @@ export default function Settings({ loaderData, actionData }: Route.ComponentProp
   const errors = actionData?.errors ?? {};
   const readOnly = !canEdit;
   const bandWarnings = checkVaporizerBand({ minC: settings.blockMinC, maxC: settings.blockMaxC }).filter((p) => p.severity === "warning");
+  const aboveLabel = doseRatesAboveLabel(settings);
   const thresholdRows = Object.keys(values).filter((k) => /^miteThresholds\.\d+\.fromMonth$/.test(k)).length;
 
   function field(key: Section["fields"][number]) {
@@ -88,6 +90,10 @@ export default function Settings({ loaderData, actionData }: Route.ComponentProp
         <SettingField key={key} name={key} info={info} kind="select" defaultValue={values[key] ?? ""} error={errors[key]} readOnly={readOnly}
           options={[{ value: "metric", label: "Metric (g, °C, km)" }, { value: "us", label: "US (oz, °F, miles)" }]} />
       );
+    }
+    if (key === "doseAboveLabelConfirmed") {
+      if (readOnly) return null;
+      return <SettingField key={key} name={key} info={info} kind="checkbox" defaultValue="" error={errors[key]} readOnly={readOnly} />;
     }
     const isText = key === "productName" || key === "productRegistrationNumber" || key === "timeZone" || key === "businessName" || key === "businessAddress" || key === "businessPhone" || key === "contactEmail";
     const isMoney = key === "pricePerColonyCents" || key === "tripFeeCents" || key === "minimumPerVisitCents";
@@ -120,6 +126,13 @@ export default function Settings({ loaderData, actionData }: Route.ComponentProp
           {SECTIONS.map((section) => (
             <Card key={section.title} title={section.title}>
               {section.fields.map(field)}
+              {section.title === "Product and dose" && aboveLabel.length ? (
+                <p className="mt-2 rounded-lg border-2 border-ochre-700 bg-card p-3 font-semibold text-ochre-700" role="note">
+                  Above the label maximum of {settings.labelMaximumGramsPerBroodBox} g per brood box:{" "}
+                  {aboveLabel.map((r) => `${r.label.toLowerCase()} boxes ${r.grams} g`).join(", ")}. Saved with the owner's confirmation that the label allows it; crews see this
+                  on every stop.
+                </p>
+              ) : null}
               {section.title === "Vaporizer and time at a yard" && bandWarnings.length ? (
                 <ul className="mt-2 list-disc pl-5 text-sm text-ochre-700">
                   {bandWarnings.map((w) => (
