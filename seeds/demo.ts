@@ -1,5 +1,8 @@
 import type { Knex } from "knex";
 import bcrypt from "bcryptjs";
+import { invoiceForVisit, formatInvoiceNumber } from "../app/domain/billing.ts";
+import { doseGramsForColonyOfType } from "../app/domain/box-types.ts";
+import { businessSettingsSchema } from "../app/domain/settings.ts";
 
 // Demo data for Varroute: a fictional two-crew oxalic acid vapor contractor,
 // "Bramblecomb Hive Care", working out of Ithaca, New York, with invented hobbyist
@@ -25,12 +28,22 @@ export const DEMO_SIGN_INS = {
   customer: "customer@demo.varroute.test",
 } as const;
 
-// Prices and rules the demo invoices are computed with (integer cents).
-const COLONY_CENTS = 900;
-const TRIP_FEE_CENTS = 3500;
-const TAX_PERCENT = 8;
-const PAYMENT_TERMS_DAYS = 30;
-const DOSE_GRAMS_PER_BROOD_BOX = 1.0;
+// The demo business's settings, saved as its settings: the demo's invoices and doses are
+// computed from these with the app's own billing and dose functions, so what the demo shows
+// is what the app would have made itself.
+export const DEMO_SETTINGS = businessSettingsSchema.parse({
+  businessName: DEMO_BUSINESS_NAME,
+  businessAddress: "12 Kiln Lane, Ithaca, NY 14850",
+  timeZone: DEMO_TIME_ZONE,
+  pricePerColonyCents: 900,
+  tripFeeCents: 3500,
+  minimumPerVisitCents: 0,
+  taxRateBasisPoints: 800,
+  paymentTermsDays: 30,
+  roundsWithBrood: 3,
+  roundIntervalDays: 7,
+});
+const PAYMENT_TERMS_DAYS = DEMO_SETTINGS.paymentTermsDays;
 const BCRYPT_COST = 10;
 
 // Drive and service time used to lay out the demo runs (the planner has its own settings).
@@ -521,7 +534,7 @@ interface DemoStop {
   driveMeters: number;
 }
 interface DemoLine {
-  kind: "colony" | "trip_fee";
+  kind: "colony" | "trip_fee" | "minimum";
   description: string;
   quantity: number;
   unitCents: number;
@@ -663,9 +676,6 @@ function planServiceDay(date: string, visits: readonly DemoVisit[], crews: reado
 
 // ---------------------------------------------------------------- money
 
-function taxCents(subtotalCents: number): number {
-  return Math.floor((subtotalCents * TAX_PERCENT + 50) / 100); // half up to the cent
-}
 function dollars(cents: number): string {
   return `$${(cents / 100).toFixed(2)}`;
 }
@@ -1053,7 +1063,7 @@ export function buildDemoPlan(today: string): DemoPlan {
         skipReason: null,
         skipNote: null,
         broodBoxes: colony.broodBoxes,
-        doseGrams: colony.broodBoxes * DOSE_GRAMS_PER_BROOD_BOX,
+        doseGrams: doseGramsForColonyOfType(colony.broodBoxes, "deep", DEMO_SETTINGS),
         mites: null,
         beesSampled: null,
         notes: null,
@@ -1105,25 +1115,19 @@ export function buildDemoPlan(today: string): DemoPlan {
   const sequences = new Map<number, number>();
   for (const visit of finishedVisits) {
     const treated = visit.tallies.filter((t) => t.outcome === "treated").length;
-    const lines: DemoLine[] = [];
-    if (treated > 0) {
-      lines.push({
-        kind: "colony",
-        description: `Oxalic acid vapor treatment, round ${visit.round} of ${visit.course.rounds}: ${treated} ${treated === 1 ? "colony" : "colonies"} × ${dollars(COLONY_CENTS)}`,
-        quantity: treated,
-        unitCents: COLONY_CENTS,
-        amountCents: treated * COLONY_CENTS,
-      });
-    }
-    lines.push({
-      kind: "trip_fee",
-      description: `Trip fee: ${visit.yard.name}, ${visit.yard.town.name}`,
-      quantity: 1,
-      unitCents: TRIP_FEE_CENTS,
-      amountCents: TRIP_FEE_CENTS,
-    });
-    const subtotal = lines.reduce((s, l) => s + l.amountCents, 0);
-    const tax = taxCents(subtotal);
+    const draft = invoiceForVisit(
+      {
+        coloniesTreated: treated,
+        pricePerColonyCents: DEMO_SETTINGS.pricePerColonyCents,
+        tripFeeCents: DEMO_SETTINGS.tripFeeCents,
+        minimumPerVisitCents: DEMO_SETTINGS.minimumPerVisitCents,
+        taxRateBasisPoints: DEMO_SETTINGS.taxRateBasisPoints,
+      },
+      { yardName: `${visit.yard.name}, ${visit.yard.town.name}`, roundNumber: visit.round, roundsPlanned: visit.course.rounds },
+    );
+    const lines: DemoLine[] = draft.lines.map((l) => ({ ...l }));
+    const subtotal = draft.subtotalCents;
+    const tax = draft.taxCents;
     const year = Number(visit.date.slice(0, 4));
     const sequence = (sequences.get(year) ?? 0) + 1;
     sequences.set(year, sequence);
@@ -1132,7 +1136,7 @@ export function buildDemoPlan(today: string): DemoPlan {
       customer: visit.yard.customer,
       year,
       sequence,
-      number: `${year}-${String(sequence).padStart(4, "0")}`,
+      number: formatInvoiceNumber(year, sequence),
       status: "open",
       issuedOn: visit.date,
       dueOn: addDays(visit.date, PAYMENT_TERMS_DAYS),
@@ -1682,6 +1686,6 @@ export async function seed(knex: Knex): Promise<void> {
     }
     await writePlan(trx, plan);
     // The demo business on its paperwork; every other setting keeps its default.
-    await trx("settings").insert({ key: "business", value: JSON.stringify({ businessName: DEMO_BUSINESS_NAME, businessAddress: "12 Kiln Lane, Ithaca, NY 14850" }) });
+    await trx("settings").insert({ key: "business", value: JSON.stringify(DEMO_SETTINGS) });
   });
 }
