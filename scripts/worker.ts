@@ -21,6 +21,7 @@ import type PgBoss from "pg-boss";
 import { deliverEmail, deliverQueuedEmails, EmailNotFoundError } from "~/models/emails.server";
 import { handleInvoiceIssued, queueUnsentInvoiceEmails } from "~/models/invoice-mail.server";
 import { queueOverdueReminders } from "~/models/invoice-reminders.server";
+import { anonymiseExpiredRecordHolds } from "~/models/record-retention.server";
 import { queueVisitReminders, reminderDateFor } from "~/models/reminders.server";
 import { deleteExpiredSessions } from "~/models/sessions.server";
 import { loadBusinessSettings } from "~/models/settings.server";
@@ -146,6 +147,15 @@ async function sweep() {
     if (ended > 0) log(`sweep: ${ended} expired session(s) deleted`);
   } catch (error) {
     log(`sweep: deleting expired sessions failed: ${errorText(error)}`);
+  }
+  try {
+    // Deleted customers whose application records no longer need their name and places.
+    const { timeZone } = await loadBusinessSettings(db);
+    const { anonymised, failed } = await anonymiseExpiredRecordHolds(db, dateInZone(new Date(), timeZone));
+    if (anonymised.length > 0) log(`sweep: record fields of ${anonymised.length} deleted customer(s) anonymised: ${anonymised.join(", ")}`);
+    for (const f of failed) log(`sweep: anonymising the records of customer ${f.customerId} failed: ${errorText(f.error)}`);
+  } catch (error) {
+    log(`sweep: anonymising expired record holds failed: ${errorText(error)}`);
   }
 }
 

@@ -4,7 +4,7 @@
  * at the hive is compared with the business's band. Pure.
  */
 
-import { calendarDaysBetween } from "./courses";
+import { addCalendarDays, calendarDaysBetween } from "./courses";
 
 /**
  * Days a worker cell stays capped (egg 3 d, open larva 6 d, capped 12 d, 21 d in all).
@@ -37,6 +37,19 @@ export function courseDatesSpanProblem(dates: readonly string[]): string | null 
   const span = calendarDaysBetween(sorted[0], sorted[sorted.length - 1]);
   if (span >= CAPPED_BROOD_DAYS) return null;
   return `The rounds would run from ${sorted[0]} to ${sorted[sorted.length - 1]}, ${span} days; rounds on a colony with brood must span at least ${CAPPED_BROOD_DAYS} days, the time a worker cell stays capped.`;
+}
+
+/**
+ * Days a course will span: from its earliest round on the calendar to its last, where rounds
+ * not yet on the calendar (the next round is made when the one before it is finished) follow
+ * the last one at the course's interval.
+ */
+export function projectedCourseSpanDays(dates: readonly string[], roundsPlanned: number, intervalDays: number): number {
+  if (dates.length === 0) return 0;
+  const sorted = [...dates].sort();
+  const missing = Math.max(0, roundsPlanned - sorted.length);
+  const last = addCalendarDays(sorted[sorted.length - 1], missing * Math.max(0, Math.trunc(intervalDays)));
+  return calendarDaysBetween(sorted[0], last);
 }
 
 /** Why one more application would pass the season's cap for a colony, or null when it may be given. */

@@ -3,6 +3,7 @@ import type { Knex } from "knex";
 import { z } from "zod";
 import { invoiceTotals } from "./invoices.server";
 import { endUserSessions } from "./sessions.server";
+import { loadBusinessSettings } from "./settings.server";
 import { hashPassword } from "./users.server";
 
 // A customer's own data: everything Varroute holds about them as one JSON download, and
@@ -13,7 +14,11 @@ import { hashPassword } from "./users.server";
 // amounts and counts unchanged: tax and bookkeeping rules ask for invoices and payments to
 // be kept for years, and pesticide rules ask applicators to keep application records
 // (date, place, product, amount, applicator). They stay attached to a customer row that
-// no longer carries a name or contact details ("Deleted customer 12").
+// no longer carries contact details. The application records also name the customer and
+// their address and the place of each treatment: when the customer had colonies treated,
+// those fields are kept until records_kept_until (the last treatment day plus the
+// retention in settings) and then anonymised by the worker's sweep
+// (record-retention.server.ts); otherwise they are anonymised at once ("Deleted customer 12").
 
 // ---------------------------------------------------------------------------------------
 // Export
@@ -231,7 +236,26 @@ export type AccountOverview = {
   invoices: number;
   openInvoices: { count: number; cents: number };
   visitInProgress: boolean;
+  /** Deleting now would keep the application-record fields until this day (null: removed at once). */
+  recordsKeptUntil: string | null;
 };
+
+/**
+ * The day a customer's application-record fields are kept until if the account is deleted:
+ * the last finished visit with a treated colony plus the retention in years (29 February
+ * becomes 28 February), or null when no colony of theirs was ever treated.
+ */
+export async function recordsKeptUntilFor(db: Knex, customerId: number, retentionYears: number): Promise<string | null> {
+  const row = (await db("visits as v")
+    .join("yards as y", "y.id", "v.yard_id")
+    .where("y.customer_id", customerId)
+    .where("v.status", "done")
+    .whereExists(db("tallies as t").whereRaw("t.visit_id = v.id").where("t.outcome", "treated").select(db.raw("1")))
+    .first(db.raw("to_char(max(v.service_date) + make_interval(years => ?), 'YYYY-MM-DD') as kept_until", [retentionYears]))) as unknown as
+    | { kept_until: string | null }
+    | undefined;
+  return row?.kept_until ?? null;
+}
 
 export async function accountOverview(db: Knex, customerId: number | string, today: string): Promise<AccountOverview> {
   const id = Number(customerId);
@@ -256,6 +280,7 @@ export async function accountOverview(db: Knex, customerId: number | string, tod
     .first(db.raw("count(*)::int as n"))) as unknown as { n: number };
   const invoices = (await db("invoices").where({ customer_id: id }).first(db.raw("count(*)::int as n"))) as unknown as { n: number };
   const totals = await invoiceTotals(db, today, id);
+  const { recordRetentionYears } = await loadBusinessSettings(db);
   const cityLine = [[customer.city, customer.region].filter(Boolean).join(", "), customer.postal_code].filter(Boolean).join(" ");
   return {
     name: customer.name,
@@ -269,6 +294,7 @@ export async function accountOverview(db: Knex, customerId: number | string, tod
     invoices: invoices.n,
     openInvoices: totals.open,
     visitInProgress: counts.in_progress > 0,
+    recordsKeptUntil: await recordsKeptUntilFor(db, id, recordRetentionYears),
   };
 }
 
@@ -305,8 +331,11 @@ export type AccountDeletionResult = {
   bookingsCancelled: number;
   coursesCancelled: number;
   photosDeleted: number;
+  /** Yards whose name, address and position were anonymised now (none while the records are kept). */
   yardsAnonymised: number;
   emailsRedacted: number;
+  /** The application-record fields are kept until this day, then anonymised (null: anonymised now). */
+  keptUntil: string | null;
 };
 
 const OPEN_VISIT = ["scheduled", "deferred"];
@@ -348,20 +377,76 @@ export function townOfAddress(address: string | null): string | null {
 }
 
 /**
+ * Anonymises the fields the application records hold about a customer (call inside a
+ * transaction holding the customer row's lock): the name becomes "Deleted customer N", the
+ * street address and postal code go (town and region stay, as the place of the records),
+ * and each yard keeps only a coarse location: latitude and longitude rounded to 2 decimals
+ * (a cell about 1.1 km north–south and 0.8 km east–west here, enough to say where a
+ * treatment happened but not whose garden it was in) and the town of its address, named
+ * "Yard N". The finish results stored for crew phones' replays (applied_changes) and the
+ * "visit.finish" audit entries quote each visit's application record: both are rewritten
+ * to quote it as it reads afterwards. Returns the number of yards anonymised.
+ */
+export async function anonymiseRecordFields(trx: Knex, customerId: number): Promise<number> {
+  const customer = await trx("customers").where({ id: customerId }).first("city", "region");
+  if (!customer) throw new RangeError(`no customer ${customerId}`);
+  const yards = await trx("yards").where({ customer_id: customerId }).orderBy("id").select("id", "address", "lat", "lng");
+  const town = [customer.city, customer.region].map((p) => p?.trim()).filter(Boolean).join(", ");
+  for (const yard of yards) {
+    const coarse = {
+      name: `Yard ${yard.id}`,
+      address: townOfAddress(yard.address),
+      lat: Math.round(Number(yard.lat) * 100) / 100,
+      lng: Math.round(Number(yard.lng) * 100) / 100,
+    };
+    await trx("yards")
+      .where({ id: yard.id })
+      .update({ ...coarse, updated_at: trx.fn.now() as unknown as Date });
+    const record = JSON.stringify({
+      customerName: `Deleted customer ${customerId}`,
+      customerAddress: town,
+      yardName: coarse.name,
+      yardAddress: coarse.address,
+      lat: coarse.lat,
+      lng: coarse.lng,
+    });
+    const yardVisits = trx("visits").where({ yard_id: yard.id });
+    await trx("applied_changes")
+      .where({ kind: "finish" })
+      .whereIn("visit_id", yardVisits.clone().select("id"))
+      .whereRaw("jsonb_typeof(result -> 'applicationRecord') = 'object'")
+      .update({ result: trx.raw("jsonb_set(result, '{applicationRecord}', (result -> 'applicationRecord') || ?::jsonb)", [record]) });
+    await trx("audit_log")
+      .where({ entity_type: "visit", action: "visit.finish" })
+      .whereIn("entity_id", yardVisits.clone().select(trx.raw("id::text")))
+      .whereRaw("jsonb_typeof(after -> 'applicationRecord') = 'object'")
+      .update({ after: trx.raw("jsonb_set(after, '{applicationRecord}', (after -> 'applicationRecord') || ?::jsonb)", [record]) });
+  }
+  await trx("customers")
+    .where({ id: customerId })
+    .update({ name: `Deleted customer ${customerId}`, address_line: null, postal_code: null, updated_at: trx.fn.now() as unknown as Date });
+  return yards.length;
+}
+
+/**
  * Deletes a customer's account in one transaction:
  * - open visits (scheduled or deferred) are cancelled and taken off their runs, which
  *   frees their room on the day, as a dispatcher's cancellation does, but without an
  *   e-mail; open bookings and active courses are cancelled;
  * - photos of their yards and visits are deleted;
- * - the customer row loses name, e-mail, phone, street address, postal code, notes and
- *   the card processor's customer id, and gets anonymised_at;
- * - yards lose their names, access notes and street addresses and are archived;
+ * - the customer row loses e-mail, phone, notes and the card processor's customer id, and
+ *   gets anonymised_at;
+ * - yards lose their access notes and are archived;
+ * - the application-record fields (customer name and address, yard names, addresses and
+ *   positions) are anonymised now (anonymiseRecordFields) when no colony of the customer
+ *   was ever treated; otherwise they are kept until records_kept_until, the last treatment
+ *   day plus the retention in settings, and the worker's sweep anonymises them after it;
  * - e-mails to them lose address, subject and bodies, and unsent ones are never sent;
  * - the sign-in is disabled, its e-mail, name, phone and password replaced, so signing in
  *   fails, and every session of it, on every device, is deleted;
- * - earlier audit entries, and the finish results kept for crew phones' replays, lose the
- *   e-mail address, names and yard details they quoted;
- * - one audit row "customer.delete" records the deletion, with counts only.
+ * - earlier audit entries lose the e-mail address, name, phone and yard details they quoted
+ *   (the finish results quoting an application record follow the record fields);
+ * - one audit row "customer.delete" records the deletion, with counts and keptUntil only.
  * Kept, unchanged: invoices with lines, payments, refunds, done visits and tallies.
  */
 export async function deleteCustomerAccount(
@@ -378,7 +463,7 @@ export async function deleteCustomerAccount(
     if (customer.anonymised_at) {
       throw new AccountDeletionRefused("This account has already been deleted; nothing about you is left to remove.", "already_deleted");
     }
-    const yards = await trx("yards").where({ customer_id: customerId }).forUpdate().select("id", "address", "lat", "lng");
+    const yards = await trx("yards").where({ customer_id: customerId }).forUpdate().select("id");
     const yardIds = yards.map((y) => Number(y.id));
     const visits = yardIds.length ? await trx("visits").whereIn("yard_id", yardIds).forUpdate().select("id", "status", "course_id") : [];
     if (visits.some((v) => v.status === "in_progress")) {
@@ -423,52 +508,18 @@ export async function deleteCustomerAccount(
             .delete()
         : 0;
 
-    // Yards. Application records name the place of each treatment, so the yard keeps a
-    // coarse location: latitude and longitude rounded to 2 decimals (a cell about 1.1 km
-    // north–south and 0.8 km east–west here, enough to say where a treatment happened but
-    // not whose garden it was in) and the town of its address. Name, street address and
-    // access notes (gate codes, where the key is) go. Colony counts and brood boxes stay:
-    // the application records and the tallies refer to them.
-    const town = [customer.city, customer.region].map((p) => p?.trim()).filter(Boolean).join(", ");
-    for (const yard of yards) {
-      const coarse = {
-        name: `Yard ${yard.id}`,
-        address: townOfAddress(yard.address),
-        lat: Math.round(Number(yard.lat) * 100) / 100,
-        lng: Math.round(Number(yard.lng) * 100) / 100,
-      };
+    // Yards: access notes (gate codes, where the key is) go now and the yards are archived.
+    // Name, address and position are application-record fields (see the decision below).
+    if (yardIds.length) {
       await trx("yards")
-        .where({ id: yard.id })
+        .whereIn("id", yardIds)
         .update({
-          ...coarse,
           access_notes: "",
           archived_at: trx.raw("coalesce(archived_at, now())") as unknown as Date,
           updated_at: trx.fn.now() as unknown as Date,
         });
-      // A finished visit's result quotes its application record: stored for replays from a
-      // crew phone (applied_changes) and in the "visit.finish" audit entry. Both now quote
-      // the record as it reads after the deletion.
-      const record = JSON.stringify({
-        customerName: `Deleted customer ${customerId}`,
-        customerAddress: town,
-        yardName: coarse.name,
-        yardAddress: coarse.address,
-        lat: coarse.lat,
-        lng: coarse.lng,
-      });
-      const yardVisits = trx("visits").where({ yard_id: yard.id });
-      await trx("applied_changes")
-        .where({ kind: "finish" })
-        .whereIn("visit_id", yardVisits.clone().select("id"))
-        .whereRaw("jsonb_typeof(result -> 'applicationRecord') = 'object'")
-        .update({ result: trx.raw("jsonb_set(result, '{applicationRecord}', (result -> 'applicationRecord') || ?::jsonb)", [record]) });
-      await trx("audit_log")
-        .where({ entity_type: "visit", action: "visit.finish" })
-        .whereIn("entity_id", yardVisits.clone().select(trx.raw("id::text")))
-        .whereRaw("jsonb_typeof(after -> 'applicationRecord') = 'object'")
-        .update({ after: trx.raw("jsonb_set(after, '{applicationRecord}', (after -> 'applicationRecord') || ?::jsonb)", [record]) });
+      await trx("colonies").whereIn("yard_id", yardIds).update({ notes: null, updated_at: trx.fn.now() });
     }
-    if (yardIds.length) await trx("colonies").whereIn("yard_id", yardIds).update({ notes: null, updated_at: trx.fn.now() });
 
     // E-mails to them: unsent ones are given up, then every one loses address, subject and content.
     const emailRows = () =>
@@ -488,20 +539,24 @@ export async function deleteCustomerAccount(
       updated_at: trx.fn.now(),
     });
 
-    // The customer row: the town and region stay as the place of the application records.
+    // The application records must be kept for a period after the last treatment with the
+    // customer's name and address and the place of each treatment: with a treated colony,
+    // those fields stay until keptUntil (the worker's sweep anonymises them after it);
+    // without one, nothing needs them and they go now.
+    const { recordRetentionYears } = await loadBusinessSettings(trx);
+    const keptUntil = await recordsKeptUntilFor(trx, customerId, recordRetentionYears);
     await trx("customers")
       .where({ id: customerId })
       .update({
-        name: `Deleted customer ${customerId}`,
         email: "",
         phone: null,
-        address_line: null,
-        postal_code: null,
         notes: null,
         stripe_customer_id: null,
+        records_kept_until: keptUntil,
         anonymised_at: trx.fn.now() as unknown as Date,
         updated_at: trx.fn.now() as unknown as Date,
       });
+    const yardsAnonymised = keptUntil === null ? await anonymiseRecordFields(trx, customerId) : 0;
 
     // The sign-in: disabled and stripped (the row stays, as the actor of audit entries).
     const userId = customer.user_id === null ? null : Number(customer.user_id);
@@ -547,8 +602,9 @@ export async function deleteCustomerAccount(
       bookingsCancelled,
       coursesCancelled,
       photosDeleted,
-      yardsAnonymised: yards.length,
+      yardsAnonymised,
       emailsRedacted,
+      keptUntil,
     };
     await trx("audit_log").insert({
       actor_user_id: Number(input.actorUserId),

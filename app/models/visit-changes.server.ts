@@ -11,6 +11,7 @@ import {
   type MoveWindow,
 } from "~/domain/booking-cutoff";
 import { addCalendarDays, calendarDaysBetween } from "~/domain/courses";
+import { CAPPED_BROOD_DAYS, projectedCourseSpanDays } from "~/domain/treatment-guards";
 import type { BusinessSettings } from "~/domain/settings";
 import { bookingCancelledEmail, visitRescheduledEmail } from "~/emails/booking";
 import { customerChangedVisitEmail, type CustomerVisitChange } from "~/emails/booking-change";
@@ -259,6 +260,28 @@ async function lockRoomForMoves(trx: Knex.Transaction, settings: BusinessSetting
 }
 
 /**
+ * Refuses moves that would shorten a course with brood below the capped-brood period (its
+ * rounds all on the calendar, cancelled ones left out). A course already shorter than that
+ * (made before the rule) may still be moved as long as it gets no shorter.
+ */
+async function refuseShorterThanCappedBrood(trx: Knex.Transaction, courseId: number, moves: readonly Move[]): Promise<void> {
+  const course = await trx("courses").where({ id: courseId }).first("rounds_planned", "interval_days");
+  if (!course || course.rounds_planned < 2) return;
+  const rounds = await trx("visits").where({ course_id: courseId }).whereNot({ status: "cancelled" }).select("id", "service_date");
+  const movedTo = new Map(moves.map((m) => [m.visitId, m.toDate]));
+  const before = rounds.map((r) => r.service_date as string);
+  const after = rounds.map((r) => movedTo.get(Number(r.id)) ?? (r.service_date as string));
+  const spanBefore = projectedCourseSpanDays(before, course.rounds_planned, course.interval_days);
+  const spanAfter = projectedCourseSpanDays(after, course.rounds_planned, course.interval_days);
+  if (spanAfter < CAPPED_BROOD_DAYS && spanAfter < spanBefore) {
+    throw new VisitChangeRefused(
+      `The course's ${course.rounds_planned} rounds would span ${spanAfter} days; rounds on a colony with brood must span at least ${CAPPED_BROOD_DAYS} days, the time a worker cell stays capped. Choose a later day.`,
+      "toDate",
+    );
+  }
+}
+
+/**
  * Moves a visit to another day with room for it, and tells the customer.
  *
  * The dispatcher moves the one visit. A customer (`byCustomerId`, in the portal) may move
@@ -307,6 +330,7 @@ export async function rescheduleVisit(
         });
       }
     }
+    await refuseShorterThanCappedBrood(trx, visit.course_id, moves);
     await lockRoomForMoves(trx, settings, moves);
 
     for (const move of moves) {

@@ -2,6 +2,7 @@ import { afterAll, beforeEach, describe, expect, it } from "vitest";
 import { addCalendarDays } from "~/domain/courses";
 import { defaultBusinessSettings, type BusinessSettings } from "~/domain/settings";
 import { AccountDeletionRefused, deleteCustomerAccount, exportCustomerData, townOfAddress } from "~/models/account-data.server";
+import { anonymiseExpiredRecordHolds } from "~/models/record-retention.server";
 import { storeYardPhoto } from "~/models/attachments.server";
 import { bookYards } from "~/models/bookings.server";
 import { roomBetween } from "~/models/capacity.server";
@@ -275,12 +276,19 @@ describe("deleting the account", () => {
     expect(thrown).toBeInstanceOf(Response);
     const redirect = thrown as Response;
     expect(redirect.status).toBe(302);
-    expect(redirect.headers.get("Location")).toBe("/?accountDeleted=1");
+    // Wren's colonies were treated on 2026-10-06: the application-record fields are kept 2 years.
+    // Source: US EPA certification rule, records kept ≥ 2 years, as summarised by pesticidestewardship.org
+    expect(redirect.headers.get("Location")).toBe("/?accountDeleted=1&recordsKeptUntil=2028-10-06");
     expect(redirect.headers.get("Set-Cookie")).toMatch(/__varroute=;.*(Max-Age=0|Expires=Thu, 01 Jan 1970)/);
+
+    // Until then the customer's name and street address and the yards' names and addresses stay
+    // (record-retention.test.ts covers the hold); the sweep the day after removes them.
+    expect((await db("customers").where({ id: wren.customerId }).first())!).toMatchObject({ name: wren.name, address_line: wren.street, records_kept_until: "2028-10-06" });
+    expect((await anonymiseExpiredRecordHolds(db, "2028-10-07")).anonymised).toEqual([wren.customerId]);
 
     // The customer row: no name or contact details.
     const customer = (await db("customers").where({ id: wren.customerId }).first())!;
-    expect(customer).toMatchObject({ name: `Deleted customer ${wren.customerId}`, email: "", phone: null, address_line: null, postal_code: null, notes: null, stripe_customer_id: null });
+    expect(customer).toMatchObject({ name: `Deleted customer ${wren.customerId}`, email: "", phone: null, address_line: null, postal_code: null, notes: null, stripe_customer_id: null, records_kept_until: null });
     expect(customer.anonymised_at).not.toBeNull();
 
     // Yards: names, addresses and access notes gone, location coarse, archived; photos deleted.

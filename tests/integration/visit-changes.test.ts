@@ -36,6 +36,29 @@ describe("moving and cancelling visits", () => {
     expect(mail?.to_address).toBe("c@example.test");
   });
 
+  it("refuses a move that would leave a course with brood shorter than the capped-brood period", async () => {
+    // Source: Winston 1987, The Biology of the Honey Bee — a worker cell stays capped 12 days (from memory).
+    // Only the first round is on the calendar; the others follow it 7 and 14 days later.
+    const course = await db("courses").first("rounds_planned", "interval_days");
+    expect(course).toEqual({ rounds_planned: 3, interval_days: 7 });
+    // Round 2 is made when round 1 is finished; put it on the calendar as that would.
+    const [second] = await db("visits")
+      .insert({ course_id: (await db("visits").where({ id: visitId }).first())!.course_id, yard_id: (await db("yards").first())!.id, round_number: 2, service_date: addCalendarDays(day, 7), status: "scheduled", colonies_expected: 6 })
+      .returning("id");
+    // Round 2 two days early: 5 + 7 = 12 days, still enough.
+    await rescheduleVisit(db, { visitId: second.id, toDate: addCalendarDays(day, 5), reason: null, actorUserId: actor });
+    // One day earlier again: 4 + 7 = 11 days — refused at the day, nothing changed.
+    const error = await rescheduleVisit(db, { visitId: second.id, toDate: addCalendarDays(day, 4), reason: null, actorUserId: actor }).catch((e) => e);
+    expect(error).toBeInstanceOf(VisitChangeRefused);
+    expect(error.field).toBe("toDate");
+    expect(error.message).toMatch(/would span 11 days; rounds on a colony with brood must span at least 12 days/);
+    expect((await db("visits").where({ id: second.id }).first())?.service_date).toBe(addCalendarDays(day, 5));
+    // Moving round 1 later would shorten it too; moving it earlier, or round 2 later, is fine.
+    await expect(rescheduleVisit(db, { visitId, toDate: addCalendarDays(day, 1), reason: null, actorUserId: actor })).rejects.toBeInstanceOf(VisitChangeRefused);
+    await rescheduleVisit(db, { visitId: second.id, toDate: addCalendarDays(day, 8), reason: null, actorUserId: actor });
+    expect((await db("visits").where({ id: second.id }).first())?.service_date).toBe(addCalendarDays(day, 8));
+  });
+
   it("refuses a day without room, and changes nothing", async () => {
     const full = addCalendarDays(day, 3);
     await db("service_days").insert({ service_date: full, capacity_colonies: 4 });

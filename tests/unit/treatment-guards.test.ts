@@ -1,5 +1,5 @@
 import { describe, expect, it } from "vitest";
-import { airTemperatureWarning, applicationCapProblem, CAPPED_BROOD_DAYS, courseDatesSpanProblem, plannedCourseSpanProblem } from "~/domain/treatment-guards";
+import { airTemperatureWarning, applicationCapProblem, CAPPED_BROOD_DAYS, courseDatesSpanProblem, plannedCourseSpanProblem, projectedCourseSpanDays } from "~/domain/treatment-guards";
 
 describe("course span against the capped-brood period", () => {
   it("takes the capped stage of a worker cell as the span to cover", () => {
@@ -41,5 +41,14 @@ describe("air temperature band", () => {
     expect(airTemperatureWarning(3.9, band)).toMatch(/below/);
     expect(airTemperatureWarning(31, band)).toMatch(/above/);
     expect(() => airTemperatureWarning(Number.NaN, band)).toThrow(RangeError);
+  });
+});
+
+describe("projected course span", () => {
+  it("counts the rounds not yet on the calendar at the course's interval", () => {
+    expect(projectedCourseSpanDays(["2026-06-01"], 3, 7)).toBe(14);
+    expect(projectedCourseSpanDays(["2026-06-01", "2026-06-06"], 3, 7)).toBe(12);
+    expect(projectedCourseSpanDays(["2026-06-01", "2026-06-08", "2026-06-15"], 3, 7)).toBe(14);
+    expect(projectedCourseSpanDays([], 3, 7)).toBe(0);
   });
 });

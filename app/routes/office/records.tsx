@@ -217,7 +217,7 @@ export default function OfficeRecords({ loaderData }: Route.ComponentProps) {
                 </Td>
                 <Td>
                   {row.customerName}
-                  {row.customerAnonymised ? <span className="text-ink-soft"> (anonymised)</span> : null}
+                  {row.customerAnonymised ? <span className="text-ink-soft"> (account deleted)</span> : null}
                   {row.customerAddress ? (
                     <>
                       <br />

@@ -1,5 +1,5 @@
 import { data, Form, useNavigation } from "react-router";
-import { formatCents } from "~/components/format";
+import { formatCents, formatServiceDate } from "~/components/format";
 import { Button, buttonClass } from "~/components/ui/button";
 import { Card, PageHeader } from "~/components/ui/card";
 import { Field, FormMessage } from "~/components/ui/field";
@@ -51,23 +51,31 @@ export async function action({ request }: Route.ActionArgs) {
   }
   if (!confirmed) return refuse({ password: "That is not the password of this account." }, 400);
 
+  let keptUntil: string | null;
   try {
-    await deleteCustomerAccount(db, { customerId: user.customerId, actorUserId: user.id });
+    ({ keptUntil } = await deleteCustomerAccount(db, { customerId: user.customerId, actorUserId: user.id }));
   } catch (error) {
     if (error instanceof AccountDeletionRefused) return refuse({ form: error.message }, 409);
     throw error;
   }
   // The sign-in limits count failures by e-mail address; that address is gone now.
   await forgetSignInFailures(user.email);
-  return destroyUserSession(request, "/?accountDeleted=1");
+  // The home page says what was kept, and until when (the customer is signed out by then).
+  return destroyUserSession(request, `/?accountDeleted=1${keptUntil ? `&recordsKeptUntil=${keptUntil}` : ""}`);
 }
 
 function count(n: number, one: string, many: string) {
   return `${n} ${n === 1 ? one : many}`;
 }
 
+/** What a deletion keeps for the application records, and until when, in plain words. */
+function recordsKeptSentence(keptUntil: string): string {
+  return `Your name, address and the places your colonies were treated stay on the treatment records the law asks us to keep, until ${formatServiceDate(keptUntil)}; then they are removed. Everything else is removed now.`;
+}
+
 export default function AccountPage({ loaderData, actionData }: Route.ComponentProps) {
   const { overview, word } = loaderData;
+  const keptUntil = overview.recordsKeptUntil;
   const busy = useNavigation().state === "submitting";
   const errors: FieldErrors = actionData?.errors ?? {};
   return (
@@ -105,13 +113,30 @@ export default function AccountPage({ loaderData, actionData }: Route.ComponentP
           Delete your account
         </h2>
         <p className="mt-2">This cannot be undone. You may want to download a copy of your data first.</p>
+        {keptUntil ? (
+          <p className="mt-2 rounded-lg border-2 border-ochre-500 bg-ochre-100 px-4 py-3" data-testid="records-kept-until">
+            {recordsKeptSentence(keptUntil)}
+          </p>
+        ) : null}
 
         <div className="mt-4 grid gap-4 md:grid-cols-2">
           <div>
             <h3 className="font-bold">What we remove</h3>
             <ul className="mt-1 list-disc pl-6">
-              <li>Your name, e-mail address, phone number and street address.</li>
-              <li>Your yards&apos; names, street addresses and access notes (gate codes, where the key is).</li>
+              {keptUntil ? (
+                <>
+                  <li>Your e-mail address and phone number now; your name and street address after {formatServiceDate(keptUntil)}.</li>
+                  <li>
+                    Your yards&apos; access notes (gate codes, where the key is) now; their names, street addresses and exact map positions after{" "}
+                    {formatServiceDate(keptUntil)}.
+                  </li>
+                </>
+              ) : (
+                <>
+                  <li>Your name, e-mail address, phone number and street address.</li>
+                  <li>Your yards&apos; names, street addresses and access notes (gate codes, where the key is).</li>
+                </>
+              )}
               <li>{overview.photos > 0 ? `Your ${count(overview.photos, "photo", "photos")}.` : "Any photos of your yards."}</li>
               <li>The text of the e-mails we sent you.</li>
               <li>Your sign-in: you will be signed out and cannot sign in again.</li>
@@ -131,10 +156,16 @@ export default function AccountPage({ loaderData, actionData }: Route.ComponentP
               </li>
               <li>
                 The record of each treatment ({count(overview.visitsDone, "visit", "visits")} done): rules for applying pesticides for hire
-                require the date, place, product and amount used to be kept. The place is kept only as the town and a map position
-                rounded to about a kilometre.
+                require the date, place, product and amount used to be kept.{" "}
+                {keptUntil
+                  ? `Until ${formatServiceDate(keptUntil)} they keep your name, address and where each yard is; after that the place is kept only as the town and a map position rounded to about a kilometre.`
+                  : "The place is kept only as the town and a map position rounded to about a kilometre."}
               </li>
-              <li>These records are kept as &ldquo;Deleted customer&rdquo;, without your name or contact details.</li>
+              <li>
+                {keptUntil
+                  ? `After ${formatServiceDate(keptUntil)}, these records are kept as “Deleted customer”, without your name or contact details.`
+                  : "These records are kept as “Deleted customer”, without your name or contact details."}
+              </li>
             </ul>
           </div>
         </div>

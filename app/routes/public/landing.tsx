@@ -1,4 +1,5 @@
 import { Link, useSearchParams } from "react-router";
+import { formatServiceDate } from "~/components/format";
 import { SafetyCautions } from "~/components/safety-cautions";
 import { buttonClass } from "~/components/ui/button";
 import type { Route } from "./+types/landing";
@@ -19,12 +20,16 @@ export default function Landing() {
   // After a customer deletes their account (app/routes/portal/account.tsx).
   const [params] = useSearchParams();
   const accountDeleted = params.get("accountDeleted") === "1";
+  // The day the treatment records' name and places are removed, when some are kept.
+  const kept = params.get("recordsKeptUntil");
+  const keptUntil = kept && /^\d{4}-\d{2}-\d{2}$/.test(kept) && !Number.isNaN(Date.parse(`${kept}T00:00:00Z`)) ? kept : null;
   return (
     <div className="mx-auto max-w-5xl px-4 py-10">
       {accountDeleted ? (
         <p role="status" className="mb-8 rounded-xl border-2 border-pine-700 bg-pine-50 p-4 text-lg">
-          Your account is deleted and you are signed out. Invoices and treatment records are kept without your name or contact details, as the
-          law requires.
+          {keptUntil
+            ? `Your account is deleted and you are signed out. Your name, address and the places your colonies were treated stay on the treatment records the law asks us to keep, until ${formatServiceDate(keptUntil)}; then they are removed. Everything else is removed now.`
+            : "Your account is deleted and you are signed out. Invoices and treatment records are kept without your name or contact details, as the law requires."}
         </p>
       ) : null}
       <section className="grid items-center gap-8 md:grid-cols-5">
