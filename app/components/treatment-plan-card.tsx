@@ -3,6 +3,14 @@ import { formatDose, formatDuration, formatTemperature, type UnitSystem } from "
 import { Card } from "./ui/card";
 import { formatServiceDate, visitStatusName } from "./format";
 
+/** "2 medium brood boxes × 0.7 g, in 1 vaporizer load": how the dose per colony was worked out. */
+function doseWorking(plan: YardTreatmentPlan, rate: string): string {
+  const boxes = plan.broodBoxesPerColony;
+  const type = plan.boxType === "nuc" ? "nuc" : plan.boxType;
+  const loads = `${plan.loadsPerColony} vaporizer ${plan.loadsPerColony === 1 ? "load" : "loads"}`;
+  return `${boxes} ${type} brood ${boxes === 1 ? "box" : "boxes"} × ${rate}, in ${loads}`;
+}
+
 /** The yard's treatment plan: doses, rounds with dates, time at the yard, vaporizer band. */
 export function TreatmentPlanCard({ plan, unitSystem, doseRate }: { plan: YardTreatmentPlan; unitSystem: UnitSystem; doseRate: number }) {
   return (
@@ -13,7 +21,9 @@ export function TreatmentPlanCard({ plan, unitSystem, doseRate }: { plan: YardTr
           <dd className="text-lg font-bold" data-testid="dose-per-colony">
             {formatDose(plan.dosePerColonyGrams, unitSystem)}
           </dd>
-          <dd className="text-sm text-ink-soft">oxalic acid dihydrate, {formatDose(doseRate, unitSystem)} per brood box</dd>
+          <dd className="text-sm text-ink-soft" data-testid="dose-working">
+            oxalic acid dihydrate: {doseWorking(plan, formatDose(doseRate, unitSystem))}
+          </dd>
         </div>
         <div>
           <dt className="text-sm font-semibold text-ink-soft">Dose per round, whole yard</dt>

@@ -8,6 +8,7 @@ import { SafetyCautions } from "./safety-cautions";
 import { TreatmentPlanCard } from "./treatment-plan-card";
 import type { YardTreatmentPlan } from "~/domain/treatment-plan";
 import { formatDose, type UnitSystem } from "~/domain/units";
+import { BOX_TYPE_LABELS } from "~/domain/box-types";
 
 /** A yard as customers and dispatchers see it: where, how to get in, colonies, visits. */
 export function YardDetails({
@@ -43,9 +44,10 @@ export function YardDetails({
         }
         actions={actions}
       />
-      <div className="mb-6 grid grid-cols-2 gap-3 lg:grid-cols-4">
+      <div className="mb-6 grid grid-cols-2 gap-3 sm:grid-cols-3 lg:grid-cols-5">
         <Stat label="Colonies" value={yard.colonyCount} />
         <Stat label="Brood boxes per colony" value={yard.broodBoxesPerColony} />
+        <Stat label="Brood box type" value={BOX_TYPE_LABELS[yard.boxType]} />
         <Stat label="Brood" value={broodStatusName(yard.broodStatus)} />
         <Stat label="Honey supers" value={yard.supersOff ? "Off" : "Not confirmed off"} tone={yard.supersOff ? "plain" : "attention"} />
       </div>
@@ -77,6 +79,7 @@ export function YardDetails({
                 <>
                   <Th>Colony</Th>
                   <Th align="right">Brood boxes</Th>
+                  <Th>Box type</Th>
                   <Th>Brood</Th>
                   <Th>In use</Th>
                 </>
@@ -86,6 +89,7 @@ export function YardDetails({
                 <tr key={colony.id}>
                   <Td>{colony.label}</Td>
                   <Td align="right">{colony.broodBoxes}</Td>
+                  <Td>{BOX_TYPE_LABELS[colony.boxType]}</Td>
                   <Td>{broodStatusName(colony.broodStatus)}</Td>
                   <Td>{colony.active ? "Yes" : "No"}</Td>
                 </tr>

@@ -1,11 +1,12 @@
 import { Form, useNavigation } from "react-router";
+import { BOX_TYPE_LABELS, BOX_TYPES } from "~/domain/box-types";
 import type { FieldErrors } from "~/forms/field-errors";
 import { LocationPicker } from "./map/location-picker";
 import { Button } from "./ui/button";
 import { Card } from "./ui/card";
 import { Field, FormMessage } from "./ui/field";
 
-export type YardFormValues = Partial<Record<"name" | "lat" | "lng" | "address" | "colonyCount" | "broodBoxesPerColony" | "broodStatus" | "supersOff" | "accessNotes", string>>;
+export type YardFormValues = Partial<Record<"name" | "lat" | "lng" | "address" | "colonyCount" | "broodBoxesPerColony" | "boxType" | "broodStatus" | "supersOff" | "accessNotes", string>>;
 
 /** The form's starting values for a saved yard (the customer's and the dispatcher's edit pages). */
 export function yardFormValues(yard: {
@@ -15,6 +16,7 @@ export function yardFormValues(yard: {
   address: string | null;
   colonyCount: number;
   broodBoxesPerColony: number;
+  boxType: string;
   broodStatus: string;
   supersOff: boolean;
   accessNotes: string;
@@ -26,6 +28,7 @@ export function yardFormValues(yard: {
     address: yard.address ?? "",
     colonyCount: String(yard.colonyCount),
     broodBoxesPerColony: String(yard.broodBoxesPerColony),
+    boxType: yard.boxType,
     broodStatus: yard.broodStatus,
     supersOff: yard.supersOff ? "on" : "",
     accessNotes: yard.accessNotes,
@@ -75,6 +78,25 @@ export function YardForm({
           <Field label="Colonies (hives) to treat" name="colonyCount" type="number" inputMode="numeric" min={0} max={200} step={1} defaultValue={values.colonyCount} error={errors.colonyCount} required />
           <Field label="Brood boxes per colony" name="broodBoxesPerColony" type="number" inputMode="numeric" min={1} max={4} step={1} defaultValue={values.broodBoxesPerColony ?? "1"} error={errors.broodBoxesPerColony} hint="Honey supers do not count: the dose goes by brood boxes." required />
         </div>
+        <fieldset className="mt-4" aria-describedby={`boxType-hint${errors.boxType ? " boxType-error" : ""}`}>
+          <legend className="font-semibold">Brood box type</legend>
+          <p id="boxType-hint" className="text-sm text-ink-soft">
+            The dose per brood box goes by its size.
+          </p>
+          <div className="mt-2 grid gap-2 sm:grid-cols-3">
+            {BOX_TYPES.map((type) => (
+              <label key={type} className="flex min-h-11 items-center gap-3 rounded-lg border-2 border-line bg-card px-3 py-2">
+                <input type="radio" name="boxType" value={type} defaultChecked={(values.boxType || "deep") === type} className="h-5 w-5 accent-pine-700" />
+                <span className="font-semibold">{BOX_TYPE_LABELS[type]}</span>
+              </label>
+            ))}
+          </div>
+          {errors.boxType ? (
+            <p id="boxType-error" className="mt-1 font-semibold text-alarm-700">
+              {errors.boxType}
+            </p>
+          ) : null}
+        </fieldset>
         <fieldset className="mt-4" aria-describedby={errors.broodStatus ? "brood-error" : undefined}>
           <legend className="font-semibold">Brood in the colonies</legend>
           <div className="mt-2 grid gap-2 sm:grid-cols-3">

@@ -5,18 +5,46 @@
  */
 import { anhydrousEquivalentGrams, checkVaporizerBand, type VaporizerBandProblem } from "./chemistry";
 import { planCourse, type BroodStatus, type CourseRound } from "./courses";
-import { doseGramsForColony, doseGramsForYard } from "./dose";
+import { doseGramsForColonyOfType, doseRateForBoxType, vaporizerLoadsForDose, type BoxType } from "./box-types";
+import { doseGramsForYard } from "./dose";
 import { serviceMinutesForYard } from "./service-time";
 import type { BusinessSettings } from "./settings";
 
 export interface YardForPlan {
   colonies: number;
   broodBoxesPerColony: number;
+  /** The yard's brood box type (deep when not given, the box the label's rate is for). */
+  boxType?: BoxType;
   broodStatus: BroodStatus;
 }
 
-export interface YardTreatmentPlan {
+/** How one colony of a yard is dosed: the box type's rate, the grams, and the vaporizer loads. */
+export interface ColonyDose {
+  broodBoxesPerColony: number;
+  boxType: BoxType;
+  /** Grams per brood box of this type, from the settings. */
+  doseRateGrams: number;
   dosePerColonyGrams: number;
+  /** Vaporizer loads a colony's dose takes; at least 1, so a time is planned even for a 0 g dose. */
+  loadsPerColony: number;
+}
+
+type DoseSettings = Pick<BusinessSettings, "doseGramsPerBroodBox" | "doseGramsPerMediumBox" | "doseGramsPerNucBox" | "vaporizerLoadGrams">;
+
+/** The dose of one colony of a yard (the plan and the day planner share it). */
+export function colonyDose(yard: { broodBoxesPerColony: number; boxType?: BoxType }, settings: DoseSettings): ColonyDose {
+  const boxType = yard.boxType ?? "deep";
+  const dosePerColonyGrams = doseGramsForColonyOfType(yard.broodBoxesPerColony, boxType, settings);
+  return {
+    broodBoxesPerColony: yard.broodBoxesPerColony,
+    boxType,
+    doseRateGrams: doseRateForBoxType(settings, boxType),
+    dosePerColonyGrams,
+    loadsPerColony: Math.max(1, vaporizerLoadsForDose(dosePerColonyGrams, settings.vaporizerLoadGrams)),
+  };
+}
+
+export interface YardTreatmentPlan extends ColonyDose {
   dosePerRoundGrams: number;
   anhydrousPerRoundGrams: number;
   doseForCourseGrams: number;
@@ -34,7 +62,8 @@ export function yardTreatmentPlan(
   settings: BusinessSettings,
   options: { firstDate: string; bookedRounds?: CourseRound[]; vaporizers?: number },
 ): YardTreatmentPlan {
-  const rate = settings.doseGramsPerBroodBox;
+  const dose = colonyDose(yard, settings);
+  const rate = dose.doseRateGrams;
   const dosePerRoundGrams = doseGramsForYard({ colonies: yard.colonies, broodBoxesPerColony: yard.broodBoxesPerColony }, rate);
   const roundsBooked = Boolean(options.bookedRounds?.length);
   const rounds = roundsBooked
@@ -49,7 +78,7 @@ export function yardTreatmentPlan(
   const vaporizers = options.vaporizers ?? settings.vaporizersPerCrew;
   const blockBand = { minC: settings.blockMinC, maxC: settings.blockMaxC };
   return {
-    dosePerColonyGrams: doseGramsForColony(yard.broodBoxesPerColony, rate),
+    ...dose,
     dosePerRoundGrams,
     anhydrousPerRoundGrams: anhydrousEquivalentGrams(dosePerRoundGrams),
     doseForCourseGrams: doseGramsForYard({ colonies: yard.colonies * roundsToTreat, broodBoxesPerColony: yard.broodBoxesPerColony }, rate),
@@ -58,6 +87,7 @@ export function yardTreatmentPlan(
     serviceMinutesPerRound: serviceMinutesForYard({
       colonies: yard.colonies,
       vaporizers,
+      loadsPerColony: dose.loadsPerColony,
       setupMinutes: settings.setupMinutes,
       sublimationSeconds: settings.sublimationSeconds,
       moveBetweenHivesMinutes: settings.moveBetweenHivesMinutes,

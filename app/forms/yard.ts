@@ -1,4 +1,5 @@
 import { z } from "zod";
+import { BOX_TYPES } from "~/domain/box-types";
 
 function numberFrom(label: string) {
   return z.preprocess(
@@ -28,6 +29,9 @@ export const yardSchema = z.object({
     // The dose goes by brood boxes: 0 would let a colony be tallied "treated" with 0 g.
     z.number().int("Brood boxes are whole boxes.").min(1, BROOD_BOX_MINIMUM_MESSAGE).max(4, "Enter at most 4 brood boxes per colony."),
   ),
+  // The dose rate goes by the box type. Left out (an older form), it is a deep, the box the
+  // label's rate is for; anything else sent is refused, never guessed.
+  boxType: z.enum(BOX_TYPES, { error: "Choose the brood box type: deep, medium or nuc." }).default("deep"),
   broodStatus: z.enum(["brood", "broodless", "unknown"], { error: "Choose whether the colonies have brood." }),
   supersOff: z.preprocess((v) => v === "on" || v === "true" || v === true, z.boolean()),
   accessNotes: z.string().trim().max(2000, "Keep the access notes under 2,000 characters.").default(""),

@@ -1,9 +1,11 @@
 import type { Knex } from "knex";
 import { formatServiceDate } from "~/components/format";
 import { addCalendarDays, calendarDaysBetween, isIsoDate } from "~/domain/courses";
+import type { BoxType } from "~/domain/box-types";
 import { doseGramsForRun, doseGramsForYard, gramsToCentigrams } from "~/domain/dose";
 import { planDay, recomputeTimes, type CrewRun, type PlanCrew, type PlanVisit, type TimeWindow, type TravelMatrix } from "~/domain/planner";
 import { serviceMinutesForYard } from "~/domain/service-time";
+import { colonyDose } from "~/domain/treatment-plan";
 import type { BusinessSettings } from "~/domain/settings";
 import type { LatLng } from "~/domain/travel";
 import { parseClockTime } from "~/domain/units";
@@ -112,7 +114,10 @@ export type DayVisit = {
   accessNotes: string;
   colonies: number;
   broodBoxesPerColony: number;
-  /** Grams of oxalic acid dihydrate for the visit. */
+  boxType: BoxType;
+  /** Vaporizer loads each colony's dose takes (≥ 1); the time at the yard grows with them. */
+  loadsPerColony: number;
+  /** Grams of oxalic acid dihydrate for the visit, at the yard's box type rate. */
   grams: number;
   timePreference: TimePreference;
   /** Minutes after midnight: service starts at or after startMin and ends by endMin. */
@@ -220,6 +225,7 @@ type VisitQueryRow = {
   address: string | null;
   access_notes: string;
   brood_boxes_per_colony: number;
+  box_type: BoxType;
   customer_name: string;
   stop_id: number | null;
   run_id: number | null;
@@ -354,6 +360,7 @@ async function loadDay(db: Knex, date: string, settings: BusinessSettings, lock:
       "yards.address",
       "yards.access_notes",
       "yards.brood_boxes_per_colony",
+      "yards.box_type",
       "customers.name as customer_name",
       "stops.id as stop_id",
       "stops.run_id",
@@ -374,6 +381,7 @@ async function loadDay(db: Knex, date: string, settings: BusinessSettings, lock:
   const windowCrews = activeCrews.length > 0 ? activeCrews : [...crews.values()];
   for (const row of visitRows) {
     const window = windowForPreference(row.time_preference, windowCrews);
+    const dose = colonyDose({ broodBoxesPerColony: row.brood_boxes_per_colony, boxType: row.box_type }, settings);
     const stop: DayStop | null =
       row.stop_id != null && runIds.includes(Number(row.run_id))
         ? {
@@ -403,7 +411,9 @@ async function loadDay(db: Knex, date: string, settings: BusinessSettings, lock:
       accessNotes: row.access_notes,
       colonies: row.colonies_expected,
       broodBoxesPerColony: row.brood_boxes_per_colony,
-      grams: doseGramsForYard({ colonies: row.colonies_expected, broodBoxesPerColony: row.brood_boxes_per_colony }, settings.doseGramsPerBroodBox),
+      boxType: row.box_type,
+      loadsPerColony: dose.loadsPerColony,
+      grams: visitGrams(row.colonies_expected, dose),
       timePreference: row.time_preference,
       window,
       windowLabel: `${clock(window.startMin)}–${clock(window.endMin)}`,
@@ -557,10 +567,16 @@ class PointIndex {
   }
 }
 
-function serviceMinutes(settings: BusinessSettings, colonies: number, vaporizers: number): number {
+/** Grams for a visit: its colonies × one colony's dose at the yard's box type rate. */
+function visitGrams(colonies: number, dose: { broodBoxesPerColony: number; doseRateGrams: number }): number {
+  return doseGramsForYard({ colonies, broodBoxesPerColony: dose.broodBoxesPerColony }, dose.doseRateGrams);
+}
+
+function serviceMinutes(settings: BusinessSettings, colonies: number, vaporizers: number, loadsPerColony: number): number {
   return serviceMinutesForYard({
     colonies,
     vaporizers,
+    loadsPerColony,
     setupMinutes: settings.setupMinutes,
     sublimationSeconds: settings.sublimationSeconds,
     moveBetweenHivesMinutes: settings.moveBetweenHivesMinutes,
@@ -586,7 +602,7 @@ function planVisit(visit: DayVisit, settings: BusinessSettings, vaporizers: numb
     id: String(visit.visitId),
     pointIndex: points.add(visit),
     colonies: visit.colonies,
-    serviceMinutes: serviceMinutes(settings, visit.colonies, vaporizers),
+    serviceMinutes: serviceMinutes(settings, visit.colonies, vaporizers, visit.loadsPerColony),
     window: visit.window,
     bookedAt: visit.bookedAt,
     doseGrams: visit.grams,
@@ -1167,12 +1183,13 @@ export async function publishRun(db: Knex, input: { runId: number; actorUserId: 
       .join("yards", "yards.id", "visits.yard_id")
       .where("stops.run_id", run.id)
       .orderBy("stops.position")
-      .select("stops.position", "stops.arrive_at", "yards.name as yard_name", "visits.colonies_expected", "yards.brood_boxes_per_colony")) as {
+      .select("stops.position", "stops.arrive_at", "yards.name as yard_name", "visits.colonies_expected", "yards.brood_boxes_per_colony", "yards.box_type")) as {
       position: number;
       arrive_at: Date;
       yard_name: string;
       colonies_expected: number;
       brood_boxes_per_colony: number;
+      box_type: BoxType;
     }[];
     if (stops.length === 0) throw new DayPlanRefused("That run has no stops to publish.", "no_stops");
     await trx("runs")
@@ -1191,7 +1208,7 @@ export async function publishRun(db: Knex, input: { runId: number; actorUserId: 
       yardName: s.yard_name,
       arrive: zonedClockTime(new Date(s.arrive_at), settings.timeZone),
       colonies: s.colonies_expected,
-      grams: doseGramsForYard({ colonies: s.colonies_expected, broodBoxesPerColony: s.brood_boxes_per_colony }, settings.doseGramsPerBroodBox),
+      grams: visitGrams(s.colonies_expected, colonyDose({ broodBoxesPerColony: s.brood_boxes_per_colony, boxType: s.box_type }, settings)),
     }));
     const email = runPublishedEmail({
       crewName: base.crewName,

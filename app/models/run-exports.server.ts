@@ -2,6 +2,8 @@ import type { Knex } from "knex";
 import { doseGramsForRun, doseGramsForYard } from "~/domain/dose";
 import type { RunExport } from "~/domain/exports/run-export";
 import { zonedClockTime } from "~/domain/zoned-time";
+import type { BoxType } from "~/domain/box-types";
+import { colonyDose } from "~/domain/treatment-plan";
 import { CREW_VISIBLE_RUN_STATUSES } from "./day-plan.server";
 import { loadBusinessSettings } from "./settings.server";
 import type { SessionUser } from "./users.server";
@@ -62,6 +64,7 @@ export async function runExportForUser(
       "yards.lng",
       "yards.access_notes",
       "yards.brood_boxes_per_colony",
+      "yards.box_type",
       "customers.name as customer_name",
       "stops.arrive_at",
       "stops.start_at",
@@ -75,6 +78,7 @@ export async function runExportForUser(
     lng: number;
     access_notes: string;
     brood_boxes_per_colony: number;
+    box_type: BoxType;
     customer_name: string;
     arrive_at: Date;
     start_at: Date;
@@ -94,7 +98,10 @@ export async function runExportForUser(
       accessNotes: row.access_notes,
       colonies: row.colonies_expected,
       broodBoxesPerColony: row.brood_boxes_per_colony,
-      doseGrams: doseGramsForYard({ colonies: row.colonies_expected, broodBoxesPerColony: row.brood_boxes_per_colony }, settings.doseGramsPerBroodBox),
+      doseGrams: doseGramsForYard(
+        { colonies: row.colonies_expected, broodBoxesPerColony: row.brood_boxes_per_colony },
+        colonyDose({ broodBoxesPerColony: row.brood_boxes_per_colony, boxType: row.box_type }, settings).doseRateGrams,
+      ),
       arriveAt,
       startAt,
       leaveAt: new Date(row.leave_at),

@@ -96,20 +96,24 @@ function yardColumns(input: YardInput) {
     address: input.address,
     colony_count: input.colonyCount,
     brood_boxes_per_colony: input.broodBoxesPerColony,
+    box_type: input.boxType,
     brood_status: input.broodStatus,
     supers_off: input.supersOff,
     access_notes: input.accessNotes,
   };
 }
 
-/** Keeps one active colony row per colony (H1…Hn): adds rows, or retires the highest-numbered. */
+/**
+ * Keeps one active colony row per colony (H1…Hn): adds rows, or retires the highest-numbered.
+ * Active colonies take the yard's brood boxes and box type, which the crew's dose goes by.
+ */
 async function matchColonies(trx: Knex.Transaction, yardId: number, input: YardInput) {
   const existing = await trx("colonies").where({ yard_id: yardId }).select("id", "label", "active");
   const byNumber = new Map(existing.map((c) => [Number(c.label.replace(/^H/, "")), c]));
   for (let n = 1; n <= input.colonyCount; n++) {
     const row = byNumber.get(n);
-    if (!row) await trx("colonies").insert({ yard_id: yardId, label: `H${n}`, brood_boxes: input.broodBoxesPerColony, brood_status: input.broodStatus });
-    else await trx("colonies").where({ id: row.id }).update({ active: true, brood_boxes: input.broodBoxesPerColony, brood_status: input.broodStatus, updated_at: trx.fn.now() });
+    if (!row) await trx("colonies").insert({ yard_id: yardId, label: `H${n}`, brood_boxes: input.broodBoxesPerColony, box_type: input.boxType, brood_status: input.broodStatus });
+    else await trx("colonies").where({ id: row.id }).update({ active: true, brood_boxes: input.broodBoxesPerColony, box_type: input.boxType, brood_status: input.broodStatus, updated_at: trx.fn.now() });
   }
   const retire = existing.filter((c) => !/^H\d+$/.test(c.label) || Number(c.label.slice(1)) > input.colonyCount).map((c) => c.id);
   if (retire.length) await trx("colonies").whereIn("id", retire).update({ active: false, updated_at: trx.fn.now() });

@@ -16,9 +16,9 @@ export async function yardPageData(db: Knex, yard: YardSummary) {
   ]);
   const today = dateInZone(new Date(), settings.timeZone);
   const plan = yardTreatmentPlan(
-    { colonies: yard.colonyCount, broodBoxesPerColony: yard.broodBoxesPerColony, broodStatus: yard.broodStatus as "brood" | "broodless" | "unknown" },
+    { colonies: yard.colonyCount, broodBoxesPerColony: yard.broodBoxesPerColony, boxType: yard.boxType, broodStatus: yard.broodStatus as "brood" | "broodless" | "unknown" },
     settings,
     { firstDate: yard.nextVisitDate ?? today, bookedRounds },
   );
-  return { yard, colonies, visits, plan, photos, unitSystem: settings.unitSystem, doseRate: settings.doseGramsPerBroodBox };
+  return { yard, colonies, visits, plan, photos, unitSystem: settings.unitSystem, doseRate: plan.doseRateGrams };
 }

@@ -1,5 +1,6 @@
 import { data } from "react-router";
 import type { Knex } from "knex";
+import type { BoxType } from "~/domain/box-types";
 
 export type YardSummary = {
   id: number;
@@ -12,6 +13,7 @@ export type YardSummary = {
   accessNotes: string;
   colonyCount: number;
   broodBoxesPerColony: number;
+  boxType: BoxType;
   broodStatus: string;
   supersOff: boolean;
   nextVisitDate: string | null;
@@ -32,6 +34,7 @@ function yardQuery(db: Knex, today: string) {
       "yards.access_notes as accessNotes",
       "yards.colony_count as colonyCount",
       "yards.brood_boxes_per_colony as broodBoxesPerColony",
+      "yards.box_type as boxType",
       "yards.brood_status as broodStatus",
       "yards.supers_off as supersOff",
       db("visits")
@@ -60,13 +63,13 @@ export async function getYard(db: Knex, yardId: string, today: string): Promise<
   return yard;
 }
 
-export type ColonySummary = { id: number; label: string; broodBoxes: number; broodStatus: string; active: boolean };
+export type ColonySummary = { id: number; label: string; broodBoxes: number; boxType: BoxType; broodStatus: string; active: boolean };
 
 export async function listColonies(db: Knex, yardId: number): Promise<ColonySummary[]> {
   return db("colonies")
     .where({ yard_id: yardId })
     .orderByRaw("length(label), label")
-    .select("id", "label", "brood_boxes as broodBoxes", "brood_status as broodStatus", "active");
+    .select("id", "label", "brood_boxes as broodBoxes", "box_type as boxType", "brood_status as broodStatus", "active");
 }
 
 export type YardVisit = {

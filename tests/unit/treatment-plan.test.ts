@@ -40,11 +40,13 @@ describe("yardTreatmentPlan", () => {
 
   it("follows the dose rate and the crew's vaporizers from the settings", () => {
     const yard = { colonies: 6, broodBoxesPerColony: 1, broodStatus: "broodless" as const };
-    const plan = yardTreatmentPlan(yard, { ...settings, doseGramsPerBroodBox: 2.5, labelMaximumGramsPerBroodBox: 4 }, { firstDate: "2026-12-01", vaporizers: 3 });
+    const plan = yardTreatmentPlan(yard, { ...settings, doseGramsPerBroodBox: 2.5, labelMaximumGramsPerBroodBox: 4, vaporizerLoadGrams: 2 }, { firstDate: "2026-12-01", vaporizers: 3 });
     expect(plan.dosePerRoundGrams).toBe(15);
     expect(plan.vaporizers).toBe(3);
+    // 2.5 g a colony does not fit one 2 g load: two loads each.
+    expect(plan.loadsPerColony).toBe(2);
     expect(plan.serviceMinutesPerRound).toBe(
-      serviceMinutesForYard({ ...settings, colonies: 6, vaporizers: 3 }),
+      serviceMinutesForYard({ ...settings, colonies: 6, vaporizers: 3, loadsPerColony: 2 }),
     );
     const slower = yardTreatmentPlan(yard, settings, { firstDate: "2026-12-01", vaporizers: 1 });
     expect(slower.serviceMinutesPerRound).toBeGreaterThan(plan.serviceMinutesPerRound);
@@ -63,5 +65,35 @@ describe("yardTreatmentPlan", () => {
     const plan = yardTreatmentPlan({ colonies: 1, broodBoxesPerColony: 1, broodStatus: "brood" }, { ...settings, blockMinC: 150, blockMaxC: 240 }, { firstDate: "2026-12-01" });
     // Source: anhydrous oxalic acid sublimes at about 157 °C (chemical data sheets)
     expect(plan.blockBandProblems.some((p) => p.severity === "error" && p.field === "minC")).toBe(true);
+  });
+
+  it("doses by the yard's box type and says how: boxes, rate, loads", () => {
+    const yard = { colonies: 10, broodBoxesPerColony: 2, broodStatus: "broodless" as const };
+    const deep = yardTreatmentPlan(yard, settings, { firstDate: "2026-12-01" });
+    expect(deep).toMatchObject({ boxType: "deep", broodBoxesPerColony: 2, doseRateGrams: 1, dosePerColonyGrams: 2 });
+    const medium = yardTreatmentPlan({ ...yard, boxType: "medium" }, { ...settings, doseGramsPerMediumBox: 0.7 }, { firstDate: "2026-12-01" });
+    // common practice: a medium takes about 0.7 of a deep's dose
+    expect(medium).toMatchObject({ boxType: "medium", doseRateGrams: 0.7, dosePerColonyGrams: 1.4, dosePerRoundGrams: 14 });
+    expect(medium.doseForCourseGrams).toBe(14);
+    const nuc = yardTreatmentPlan({ ...yard, broodBoxesPerColony: 1, boxType: "nuc" }, { ...settings, doseGramsPerNucBox: 0.5 }, { firstDate: "2026-12-01" });
+    expect(nuc).toMatchObject({ boxType: "nuc", doseRateGrams: 0.5, dosePerColonyGrams: 0.5, dosePerRoundGrams: 5 });
+  });
+
+  it("plans a longer round when a colony's dose takes more than one vaporizer load", () => {
+    const yard = { colonies: 8, broodBoxesPerColony: 3, boxType: "deep" as const, broodStatus: "broodless" as const };
+    const oneLoad = yardTreatmentPlan(yard, { ...settings, vaporizerLoadGrams: 3 }, { firstDate: "2026-12-01", vaporizers: 2 });
+    const twoLoads = yardTreatmentPlan(yard, { ...settings, vaporizerLoadGrams: 2 }, { firstDate: "2026-12-01", vaporizers: 2 });
+    expect(oneLoad.loadsPerColony).toBe(1);
+    expect(twoLoads.loadsPerColony).toBe(2);
+    expect(twoLoads.serviceMinutesPerRound).toBe(serviceMinutesForYard({ ...settings, colonies: 8, vaporizers: 2, loadsPerColony: 2 }));
+    expect(twoLoads.serviceMinutesPerRound).toBeGreaterThan(oneLoad.serviceMinutesPerRound);
+    // The acid is the same; only the time grows.
+    expect(twoLoads.dosePerRoundGrams).toBe(oneLoad.dosePerRoundGrams);
+  });
+
+  it("still plans one load a colony for a dose of 0 g, so the visit keeps its time", () => {
+    const plan = yardTreatmentPlan({ colonies: 4, broodBoxesPerColony: 0, broodStatus: "brood" }, settings, { firstDate: "2026-12-01" });
+    expect(plan.loadsPerColony).toBe(1);
+    expect(plan.serviceMinutesPerRound).toBe(serviceMinutesForYard({ ...settings, colonies: 4, vaporizers: settings.vaporizersPerCrew }));
   });
 });
