@@ -1,3 +1,4 @@
+import { useEffect, useState } from "react";
 import { data, Form, useNavigation } from "react-router";
 import { SettingField } from "~/components/settings-field";
 import { SafetyCautions } from "~/components/safety-cautions";
@@ -68,6 +69,11 @@ export default function Settings({ loaderData, actionData }: Route.ComponentProp
   const readOnly = !canEdit;
   const bandWarnings = checkVaporizerBand({ minC: settings.blockMinC, maxC: settings.blockMaxC }).filter((p) => p.severity === "warning");
   const aboveLabel = doseRatesAboveLabel(settings);
+  // The label confirmation is given anew at each save: a new answer from the server remounts it unticked.
+  const [answers, setAnswers] = useState(0);
+  useEffect(() => {
+    if (actionData) setAnswers((n) => n + 1);
+  }, [actionData]);
   const thresholdRows = Object.keys(values).filter((k) => /^miteThresholds\.\d+\.fromMonth$/.test(k)).length;
 
   function field(key: Section["fields"][number]) {
@@ -93,7 +99,7 @@ export default function Settings({ loaderData, actionData }: Route.ComponentProp
     }
     if (key === "doseAboveLabelConfirmed") {
       if (readOnly) return null;
-      return <SettingField key={key} name={key} info={info} kind="checkbox" defaultValue="" error={errors[key]} readOnly={readOnly} />;
+      return <SettingField key={`${key}-${answers}`} name={key} info={info} kind="checkbox" defaultValue="" error={errors[key]} readOnly={readOnly} />;
     }
     const isText = key === "productName" || key === "productRegistrationNumber" || key === "timeZone" || key === "businessName" || key === "businessAddress" || key === "businessPhone" || key === "contactEmail";
     const isMoney = key === "pricePerColonyCents" || key === "tripFeeCents" || key === "minimumPerVisitCents";
