@@ -27,7 +27,7 @@ test("a customer puts a yard of medium boxes on the map and its plan doses it at
   const perColony = Math.round(2 * rate * 100) / 100;
   await expect(page.getByText(new RegExp(`2 medium brood boxes × ${rate} g`))).toBeVisible();
   await expect(page.getByTestId("dose-per-colony")).toContainText(`${perColony} g`);
-  await page.screenshot({ path: "test-results/screenshots/yard-medium-plan-390.png", fullPage: true });
+  await page.screenshot({ path: "test-results/screenshots/yard-medium-plan-1280.png", fullPage: true });
 });
 
 test("a customer with treated colonies deletes their account: the records keep their name until the retention date, the rest goes at once", async ({ page, browser }) => {
