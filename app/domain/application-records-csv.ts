@@ -43,6 +43,8 @@ export type ApplicationRecordLine = {
   /** Crew members who recorded the treatments (the one who finished when nobody did). */
   applicators: RecordApplicator[];
   weatherNote: string | null;
+  /** The air temperature the crew read at the yard, °C (null when not recorded). */
+  airTempC?: number | null;
 };
 
 /** Grams as stored (two decimals, e.g. "4.00"), without floating-point residue. */
@@ -86,6 +88,7 @@ export const RECORD_CSV_COLUMNS: readonly { header: string; cell: (line: Applica
   { header: "Applicator", cell: (l) => applicatorNames(l.applicators) },
   { header: "Applicator licence", cell: (l) => applicatorLicences(l.applicators) },
   { header: "Weather", cell: (l) => l.weatherNote ?? "" },
+  { header: "Air temperature (°C)", cell: (l) => l.airTempC ?? "" },
 ];
 
 /**

@@ -31,7 +31,7 @@ export const AUDIT_AREA_LABELS: Record<AuditArea, string> = {
 export const AUDIT_AREA_RULES: Record<Exclude<AuditArea, "other">, { actions: readonly string[]; prefixes: readonly string[] }> = {
   bookings: { actions: ["visit.reschedule", "visit.cancel", "visit.next_round", "visit.time_of_day"], prefixes: ["booking.", "course."] },
   runs: { actions: [], prefixes: ["service_day.", "run.", "stop.", "crew.", "crew_day."] },
-  tallies: { actions: ["visit.supers_off", "visit.finish"], prefixes: ["tally."] },
+  tallies: { actions: ["visit.supers_off", "visit.air_temp", "visit.finish"], prefixes: ["tally."] },
   invoices: { actions: [], prefixes: ["invoice."] },
   payments: { actions: [], prefixes: ["payment.", "refund."] },
   settings: { actions: [], prefixes: ["settings.", "business.", "staff."] },
@@ -310,6 +310,12 @@ const SENTENCES: Record<string, Describe> = {
     const rounds = count(a.rounds);
     return rounds !== null ? `Completed the course of ${plural(rounds, "round")}` : "Completed the course";
   },
+  "course.rounds_added": (_f, _b, a) => {
+    const added = count(a.roundsAdded);
+    const rounds = count(a.roundsPlanned);
+    const what = added !== null ? `Added ${plural(added, "round")} to the course` : "Added rounds to the course";
+    return `${what}: the crew found brood${rounds !== null ? ` (${rounds} rounds in all)` : ""}`;
+  },
   "service_day.plan": (f, _b, a) => {
     const crews = Array.isArray(a.crews) ? a.crews.map(record) : [];
     const routed = crews.filter((c) => (count(c.stops) ?? 0) > 0);
@@ -351,6 +357,14 @@ const SENTENCES: Record<string, Describe> = {
   },
   "run.safety_check": () => "Ticked the safety check before the first stop",
   "visit.supers_off": () => "Confirmed the honey supers are off",
+  "visit.air_temp": (_f, b, a) => {
+    const now = count(a.airTempC);
+    const was = count(b.airTempC);
+    let sentence = now === null ? "Recorded the air temperature at the yard" : `Recorded the air temperature at the yard: ${now} °C`;
+    if (was !== null && was !== now) sentence += ` (was ${was} °C)`;
+    if (text(a.warning)) sentence += ", outside the business's band for treating";
+    return sentence;
+  },
   "tally.record": (_f, _b, a) => {
     const colony = text(a.colonyLabel) ?? "a colony";
     if (a.outcome === "skipped") {
@@ -462,6 +476,15 @@ const SENTENCES: Record<string, Describe> = {
   "yard.photo_add": () => "Added a photo of the yard",
   "yard.photo_delete": () => "Removed a photo of the yard",
   "colony.deactivate": (_f, _b, a) => withReason("Retired the colony", a.notes),
+  "colony.correct": (_f, b, a) => {
+    const colony = text(a.colonyLabel) ?? text(b.colonyLabel) ?? "a colony";
+    const changes: string[] = [];
+    const boxes = count(a.broodBoxes);
+    if (boxes !== null && !same(a.broodBoxes, b.broodBoxes)) changes.push(plural(boxes, "brood box", "brood boxes"));
+    if (text(a.boxType) && !same(a.boxType, b.boxType)) changes.push(`${String(a.boxType)} boxes`);
+    if (text(a.broodStatus) && !same(a.broodStatus, b.broodStatus)) changes.push(a.broodStatus === "brood" ? "brood seen" : a.broodStatus === "broodless" ? "no brood seen" : String(a.broodStatus));
+    return `Corrected colony ${colony} at the hive${changes.length ? `: ${changes.join(", ")}` : ""}`;
+  },
   "customers.import": (_f, _b, a) => {
     const rows = count(a.rows);
     const created = count(a.customersCreated);
@@ -479,6 +502,7 @@ const SENTENCES: Record<string, Describe> = {
     return `Signed up for a customer account${email ? ` as ${email}` : ""}`;
   },
   "customer.delete": () => "Deleted the customer's account",
+  "customer.records_anonymised": (_f, b) => `Removed the deleted customer's name, address and treatment places from the application records${formatAuditDay(b.keptUntil) ? `, kept until ${formatAuditDay(b.keptUntil)}` : ""}`,
   "crew.create": (_f, _b, a) => {
     const name = text(a.name);
     return `Added the crew${name ? ` ${name}` : ""}${a.active === false ? " (inactive)" : ""}`;

@@ -53,6 +53,8 @@ export type VisitReportEmailInput = {
   colonies: readonly ReportColony[];
   nextRound: { date: string; deferred: boolean } | null;
   courseComplete: boolean;
+  /** Rounds added to the course because the crew found brood at this visit (0 or absent: none). */
+  roundsAdded?: number;
   portalUrl: string;
 };
 
@@ -118,6 +120,18 @@ export function visitReportEmail(input: VisitReportEmailInput): EmailContent {
       ? "This was the last round: the treatment course for this yard is complete."
       : "No further round is planned.";
 
+  const added = input.roundsAdded ?? 0;
+  const broodText =
+    added > 0
+      ? `Our crew found brood in the colonies, so the course needs more rounds to reach the mites under the brood caps: we added ${added} more ${added === 1 ? "round" : "rounds"}, ${input.roundsPlanned} in all.${
+          input.nextRound
+            ? input.nextRound.deferred
+              ? ` The next round is due around ${formatServiceDate(input.nextRound.date)}; we will confirm the date with you.`
+              : ` The next round is on ${formatServiceDate(input.nextRound.date)}.`
+            : ""
+        }`
+      : null;
+
   const blocks: EmailBlock[] = [
     { kind: "paragraph", text: name ? `Hello ${name},` : "Hello," },
     {
@@ -137,6 +151,7 @@ export function visitReportEmail(input: VisitReportEmailInput): EmailContent {
       ],
     },
   ];
+  if (broodText) blocks.push({ kind: "heading", text: "Brood found: rounds added" }, { kind: "paragraph", text: broodText });
   if (skipped.length > 0) {
     blocks.push({ kind: "heading", text: "Colonies not treated" }, { kind: "list", items: skipped.map(skippedColonyLine) });
   }

@@ -1,13 +1,16 @@
 import { z } from "zod";
+import { BOX_TYPES } from "~/domain/box-types";
 import { MAX_SAMPLE_ML, MIN_SAMPLE_ML } from "~/domain/mites";
+import { roundTo } from "~/domain/units";
 
 // What a crew's phone sends: one schema per kind of change (safety check, supers off, a
-// colony's tally, finishing a visit), shared by the phone (to check before queueing) and
+// colony's tally with what the crew found at the hive, the air temperature at the yard,
+// finishing a visit), shared by the phone (to check before queueing) and
 // the server (app/models/tallies.server.ts). Every change carries an idempotency key; the
 // envelope may also carry the run id and version the phone saw, and when it was made.
 
 export const SKIP_REASON_VALUES = ["dead_out", "queenless", "supers_on", "aggressive", "not_reachable", "other"] as const;
-export const SYNC_KINDS = ["safety", "supers", "tally", "finish"] as const;
+export const SYNC_KINDS = ["safety", "supers", "tally", "air_temp", "finish"] as const;
 export type SyncKind = (typeof SYNC_KINDS)[number];
 
 /** Most changes a phone may send in one batch. */
@@ -97,6 +100,22 @@ export type SafetyItemsInput = z.output<typeof safetyItemsSchema>;
 export const safetyPayloadSchema = z.object({ runId: idSchema, items: safetyItemsSchema });
 export const supersPayloadSchema = z.object({ visitId: idSchema });
 
+/** The brood boxes a crew can record on a colony at the hive. */
+export const MIN_BROOD_BOXES = 1;
+export const MAX_BROOD_BOXES = 6;
+
+/** Not given (undefined, null or empty text) reads as undefined: no correction. */
+function emptyAsUndefined(value: unknown) {
+  const v = emptyAsNull(value);
+  return v === null ? undefined : v;
+}
+
+/** Whether brood was seen: true/false (or "true"/"false" from a form), null when not said. */
+const broodSeenSchema = z.preprocess(
+  (value) => (value === "true" ? true : value === "false" ? false : value === undefined || value === "" ? null : value),
+  z.boolean({ error: "Say whether brood was seen: yes, no, or not looked." }).nullable(),
+);
+
 /**
  * One colony's tally. A skipped colony needs a reason ("other" also a note). A wash count
  * needs the mites and either the bees counted or the sample's volume in mL (the bees are then
@@ -115,6 +134,26 @@ export const tallyPayloadSchema = z
     sampleMl: optionalNumber("the sample volume", MIN_SAMPLE_ML, MAX_SAMPLE_ML, "mL").optional().transform((v) => v ?? null),
     notes: optionalText("the notes", 2000),
     recordedAt: instantSchema,
+    // What the crew found at the hive, when it differs from the colony on record: the colony
+    // is corrected and dosed from these. Optional on the wire (older phones never send them).
+    broodBoxes: z
+      .preprocess(
+        (value) => {
+          const v = emptyAsUndefined(value);
+          return typeof v === "string" && /^\s*\d+\s*$/.test(v) ? Number(v) : v;
+        },
+        z
+          .number({ error: "Enter the brood boxes as a whole number." })
+          .int({ error: "Enter the brood boxes as a whole number." })
+          .min(MIN_BROOD_BOXES, { error: `Enter the brood boxes from ${MIN_BROOD_BOXES} to ${MAX_BROOD_BOXES}.` })
+          .max(MAX_BROOD_BOXES, { error: `Enter the brood boxes from ${MIN_BROOD_BOXES} to ${MAX_BROOD_BOXES}.` })
+          .optional(),
+      )
+      .transform((v) => v ?? null),
+    boxType: z
+      .preprocess(emptyAsUndefined, z.enum(BOX_TYPES, { error: "Choose the box type: deep, medium or nuc." }).optional())
+      .transform((v) => v ?? null),
+    broodSeen: broodSeenSchema.optional().transform((v) => v ?? null),
   })
   .superRefine((tally, ctx) => {
     if (tally.outcome === "skipped" && !tally.skipReason) {
@@ -140,6 +179,24 @@ export const finishPayloadSchema = z.object({
   notes: optionalText("the notes", 2000),
 });
 
+export const AIR_TEMP_MIN_C = -50;
+export const AIR_TEMP_MAX_C = 60;
+const AIR_TEMP_RANGE = `Enter the air temperature from ${AIR_TEMP_MIN_C} to ${AIR_TEMP_MAX_C} °C.`;
+
+/** The air temperature read at the yard, stored in °C to 0.1 (the phone converts °F before sending). */
+export const airTempPayloadSchema = z.object({
+  visitId: idSchema,
+  airTempC: z.preprocess(
+    (value) => (typeof value === "string" && /^\s*-?\d+(\.\d+)?\s*$/.test(value) ? Number(value) : value),
+    z
+      .number({ error: "Enter the air temperature as a number." })
+      .refine(Number.isFinite, { error: "Enter the air temperature as a number." })
+      .min(AIR_TEMP_MIN_C, { error: AIR_TEMP_RANGE })
+      .max(AIR_TEMP_MAX_C, { error: AIR_TEMP_RANGE })
+      .transform((c) => roundTo(c, 1)),
+  ),
+});
+
 const envelope = {
   key: changeKeySchema,
   /** The run the phone had the stop on, and that run's version, when it made the change. */
@@ -155,9 +212,10 @@ export const syncChangeSchema = z.discriminatedUnion(
     z.object({ ...envelope, kind: z.literal("safety"), payload: safetyPayloadSchema }),
     z.object({ ...envelope, kind: z.literal("supers"), payload: supersPayloadSchema }),
     z.object({ ...envelope, kind: z.literal("tally"), payload: tallyPayloadSchema }),
+    z.object({ ...envelope, kind: z.literal("air_temp"), payload: airTempPayloadSchema }),
     z.object({ ...envelope, kind: z.literal("finish"), payload: finishPayloadSchema }),
   ],
-  { error: "A change is a safety check, supers off, a tally or a finish." },
+  { error: "A change is a safety check, supers off, a tally, an air temperature or a finish." },
 );
 export type SyncChange = z.output<typeof syncChangeSchema>;
 /** A change as the phone sends it (before parsing). */

@@ -203,6 +203,7 @@ type RecordSqlRow = {
   finished_at: Date | null;
   finished_by: number | null;
   weather_note: string | null;
+  air_temp_c: string | null;
   product_name: string | null;
   product_registration_number: string | null;
   customer_id: number;
@@ -238,7 +239,7 @@ function recordsSql(filters: RecordFilters): { sql: string; bindings: (string | 
   }
   const sql = `
     select v.id as visit_id, v.service_date,
-      coalesce(v.started_at, v.supers_confirmed_at) as started_at, v.finished_at, v.finished_by, v.weather_note, v.product_name, v.product_registration_number,
+      coalesce(v.started_at, v.supers_confirmed_at) as started_at, v.finished_at, v.finished_by, v.weather_note, v.air_temp_c, v.product_name, v.product_registration_number,
       c.id as customer_id, c.name as customer_name, c.address_line, c.city, c.region, c.postal_code, c.anonymised_at,
       y.id as yard_id, y.name as yard_name, y.address as yard_address, y.lat, y.lng,
       k.crew_id, cr.name as crew_name,
@@ -378,6 +379,7 @@ export async function applicationRecords(db: Knex, filters: RecordFilters, pagin
       productRegistrationNumber: r.product_registration_number ?? settings.productRegistrationNumber,
       applicators: applicators.get(r.visit_id) ?? [],
       weatherNote: r.weather_note?.trim() || null,
+      airTempC: r.air_temp_c === null || r.air_temp_c === undefined ? null : Number(r.air_temp_c),
     })),
     totals,
     filters,

@@ -1,5 +1,6 @@
 import type { Knex } from "knex";
-import { doseGramsForColony } from "~/domain/dose";
+import { BOX_TYPE_LABELS, doseAssumption, doseGramsForColonyOfType } from "~/domain/box-types";
+import { doseRatesAboveLabel } from "~/domain/settings";
 import type { FieldRun, FieldStop, FieldTally, SkipReason } from "~/components/crew/field-types";
 import { formatClock } from "~/components/format";
 import { loadBusinessSettings } from "./settings.server";
@@ -35,17 +36,45 @@ export async function crewFieldRun(db: Knex, crewId: number | string, serviceDat
       "yards.lng",
       "yards.access_notes as accessNotes",
       "visits.round_number as roundNumber",
+      "visits.course_id as courseId",
       "courses.rounds_planned as roundsPlanned",
       "visits.supers_confirmed_at",
       "visits.status",
+      "visits.air_temp_c",
     );
   const yardIds = stops.map((s) => s.yardId);
   const visitIds = stops.map((s) => s.visitId);
-  const [colonies, tallies, photos] = await Promise.all([
-    db("colonies").whereIn("yard_id", yardIds).where({ active: true }).orderByRaw("length(label), label").select("yard_id", "label", "brood_boxes"),
-    db("tallies").whereIn("visit_id", visitIds).select("visit_id", "colony_label", "outcome", "skip_reason", "skip_note", "mites", "bees_sampled", "wash_sample_ml", "bees_estimated", "notes"),
+  const year = Number(String(run.serviceDate).slice(0, 4));
+  const [colonies, tallies, photos, applications, roundsAdded, nextRounds] = await Promise.all([
+    db("colonies").whereIn("yard_id", yardIds).where({ active: true }).orderByRaw("length(label), label").select("id", "yard_id", "label", "brood_boxes", "box_type"),
+    db("tallies").whereIn("visit_id", visitIds).select("visit_id", "colony_label", "outcome", "skip_reason", "skip_note", "mites", "bees_sampled", "wash_sample_ml", "bees_estimated", "notes", "brood_seen"),
     db("attachments").whereIn("yard_id", yardIds).orderBy("id").select("id", "yard_id"),
+    // Treated tallies per colony in the run's calendar year: the season the cap counts in.
+    db("tallies")
+      .join("visits", "visits.id", "tallies.visit_id")
+      .whereIn("visits.yard_id", yardIds)
+      .where("tallies.outcome", "treated")
+      .whereNotNull("tallies.colony_id")
+      .where("visits.service_date", ">=", `${year}-01-01`)
+      .where("visits.service_date", "<=", `${year}-12-31`)
+      .groupBy("tallies.colony_id")
+      .select("tallies.colony_id", db.raw("count(*)::int as n")) as unknown as Promise<{ colony_id: string | number; n: number }[]>,
+    // Rounds added when a visit found brood in a course planned broodless (finishVisit audits it).
+    db("audit_log")
+      .where({ action: "course.rounds_added", entity_type: "course" })
+      .whereIn("entity_id", stops.map((s) => String(s.courseId)))
+      .select("after"),
+    db("visits")
+      .whereIn("course_id", stops.map((s) => s.courseId))
+      .whereNot({ status: "cancelled" })
+      .select("course_id", "round_number", "service_date"),
   ]);
+  const addedAt = new Map<number, number>();
+  for (const row of roundsAdded) {
+    const after = row.after as { visitId?: unknown; roundsAdded?: unknown };
+    addedAt.set(Number(after.visitId), Number(after.roundsAdded ?? 0));
+  }
+  const applied = new Map(applications.map((a) => [Number(a.colony_id), Number(a.n)]));
   const fieldStops: FieldStop[] = stops.map((s) => ({
     visitId: s.visitId,
     position: s.position,
@@ -62,7 +91,19 @@ export async function crewFieldRun(db: Knex, crewId: number | string, serviceDat
     roundsPlanned: s.roundsPlanned,
     colonies: colonies
       .filter((c) => c.yard_id === s.yardId)
-      .map((c) => ({ label: c.label, broodBoxes: c.brood_boxes, doseGrams: doseGramsForColony(c.brood_boxes, settings.doseGramsPerBroodBox) })),
+      .map((c) => ({
+        label: c.label,
+        broodBoxes: c.brood_boxes,
+        doseGrams: doseGramsForColonyOfType(c.brood_boxes, c.box_type, settings),
+        boxType: c.box_type,
+        boxTypeLabel: BOX_TYPE_LABELS[c.box_type],
+        doseAssumption: doseAssumption({ broodBoxes: c.brood_boxes, boxType: c.box_type, rates: settings, loadGrams: settings.vaporizerLoadGrams }),
+        applicationsThisSeason: applied.get(Number(c.id)) ?? 0,
+        applicationCap: settings.maxApplicationsPerColonyPerSeason,
+      })),
+    airTempC: s.air_temp_c === null || s.air_temp_c === undefined ? null : Number(s.air_temp_c),
+    roundsAdded: addedAt.get(Number(s.visitId)) ?? 0,
+    nextRoundDate: nextRounds.find((v) => Number(v.course_id) === Number(s.courseId) && v.round_number === s.roundNumber + 1)?.service_date ?? null,
     supersConfirmed: s.supers_confirmed_at !== null,
     status: s.status,
     tallies: Object.fromEntries(
@@ -70,7 +111,7 @@ export async function crewFieldRun(db: Knex, crewId: number | string, serviceDat
         .filter((t) => t.visit_id === s.visitId)
         .map((t): [string, FieldTally] => [
           t.colony_label,
-          { colonyLabel: t.colony_label, outcome: t.outcome, skipReason: t.skip_reason as SkipReason | null, skipNote: t.skip_note, mites: t.mites, beesSampled: t.bees_estimated ? null : t.bees_sampled, sampleMl: t.wash_sample_ml === null ? null : Number(t.wash_sample_ml), notes: t.notes },
+          { colonyLabel: t.colony_label, outcome: t.outcome, skipReason: t.skip_reason as SkipReason | null, skipNote: t.skip_note, mites: t.mites, beesSampled: t.bees_estimated ? null : t.bees_sampled, sampleMl: t.wash_sample_ml === null ? null : Number(t.wash_sample_ml), notes: t.notes, broodSeen: t.brood_seen ?? null },
         ]),
     ),
   }));
@@ -93,7 +134,12 @@ export async function crewFieldRun(db: Knex, crewId: number | string, serviceDat
       blockMaxC: settings.blockMaxC,
       miteThresholds: settings.miteThresholds,
       beesPer100Ml: settings.beesPer100Ml,
+      doseGramsPerMediumBox: settings.doseGramsPerMediumBox,
+      doseGramsPerNucBox: settings.doseGramsPerNucBox,
+      airTempMinC: settings.airTempMinC,
+      airTempMaxC: settings.airTempMaxC,
     },
+    doseAboveLabel: doseRatesAboveLabel(settings),
     loadedAt: new Date().toISOString(),
   };
 }

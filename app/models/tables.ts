@@ -203,6 +203,8 @@ export interface TallyRow extends Stamps {
   recorded_at: Date;
   idempotency_key: string | null;
   box_type: "deep" | "medium" | "nuc";
+  /** Whether the crew saw brood in the colony at this visit; null when they did not say. */
+  brood_seen: boolean | null;
 }
 
 export interface InvoiceSequenceRow {
@@ -332,7 +334,7 @@ export interface AuditLogRow {
 export interface AppliedChangeRow {
   key: string;
   crew_id: Id;
-  kind: "safety" | "supers" | "tally" | "finish";
+  kind: "safety" | "supers" | "tally" | "air_temp" | "finish";
   visit_id: Id | null;
   user_id: Id | null;
   applied_at: Date;

@@ -1,17 +1,21 @@
 import type { Knex } from "knex";
 import { formatClock } from "~/components/format";
 import { addCalendarDays } from "~/domain/courses";
-import { doseGramsForColony, doseGramsForSeason } from "~/domain/dose";
+import { BOX_TYPE_LABELS, doseAssumption, doseGramsForColonyOfType, type BoxType } from "~/domain/box-types";
+import { doseGramsForSeason } from "~/domain/dose";
 import { assessMiteLoad, mitesPer100Bees, washSampleBees, type MiteLoadAssessment } from "~/domain/mites";
-import type { BusinessSettings } from "~/domain/settings";
+import { doseRatesAboveLabel, type BusinessSettings } from "~/domain/settings";
+import { airTemperatureWarning, applicationCapProblem } from "~/domain/treatment-guards";
 import { roundTo } from "~/domain/units";
 import { visitReportEmail, type ReportColony, type ReportSkipReason } from "~/emails/visit-report";
 import { fieldErrors, type FieldErrors } from "~/forms/field-errors";
 import {
+  airTempPayloadSchema,
   changeKeySchema,
   finishPayloadSchema,
   idSchema,
   safetyItemsSchema,
+  SYNC_KINDS,
   syncChangeSchema,
   tallyPayloadSchema,
   type SafetyItemsInput,
@@ -415,6 +419,10 @@ export type TallyView = {
   skipReason: SkipReason | null;
   skipNote: string | null;
   broodBoxes: number;
+  /** The box type the dose was worked out for. */
+  boxType: BoxType;
+  /** Whether the crew saw brood in the colony; null when they did not say. */
+  broodSeen: boolean | null;
   doseGrams: number;
   mites: number | null;
   /** The bees the wash count is divided by: counted, or estimated from the sample's volume. */
@@ -459,6 +467,8 @@ function tallyView(row: TallyRow, serviceDate: string, settings: BusinessSetting
     skipReason: row.skip_reason,
     skipNote: row.skip_note,
     broodBoxes: row.brood_boxes,
+    boxType: row.box_type,
+    broodSeen: row.brood_seen ?? null,
     doseGrams: Number(row.dose_grams),
     mites: row.mites,
     beesSampled: row.bees_sampled,
@@ -486,6 +496,10 @@ export type TallyInput = {
   sampleMl?: number | string | null;
   notes?: string | null;
   recordedAt: Date | string;
+  /** What the crew found at the hive, when it differs from the record: the colony is corrected and dosed from it. */
+  broodBoxes?: number | string | null;
+  boxType?: BoxType | string | null;
+  broodSeen?: boolean | string | null;
 };
 
 async function recordTallyTx(trx: Knex.Transaction, input: TallyInput, now: Date): Promise<TallyResult> {
@@ -507,6 +521,9 @@ async function recordTallyTx(trx: Knex.Transaction, input: TallyInput, now: Date
     sampleMl: input.sampleMl ?? null,
     notes: input.notes ?? null,
     recordedAt: input.recordedAt,
+    broodBoxes: input.broodBoxes ?? null,
+    boxType: input.boxType ?? null,
+    broodSeen: input.broodSeen ?? null,
   });
   if (!parsed.success) {
     const errors = fieldErrors(parsed.error);
@@ -515,12 +532,19 @@ async function recordTallyTx(trx: Knex.Transaction, input: TallyInput, now: Date
   const tally = parsed.data;
   if (tally.outcome === "treated" && !access.supersConfirmedAt) throw new TallyRefused("supers_not_confirmed", MESSAGES.supers);
 
-  const colony = await trx("colonies").where({ yard_id: access.yardId, label: tally.colonyLabel, active: true }).first("id", "label", "brood_boxes");
+  const colony = await trx("colonies")
+    .where({ yard_id: access.yardId, label: tally.colonyLabel, active: true })
+    .forUpdate()
+    .first("id", "label", "brood_boxes", "box_type", "brood_status");
   if (!colony) {
     throw new TallyRefused("invalid", `There is no colony “${tally.colonyLabel}” at this yard.`, { colonyLabel: "Choose a colony of this yard." });
   }
+  // What the crew found at the hive wins over the record: the dose is worked out from it.
+  const broodBoxes = tally.broodBoxes ?? colony.brood_boxes;
+  const boxType = tally.boxType ?? colony.box_type;
+  const broodStatus = tally.broodSeen === null ? colony.brood_status : tally.broodSeen ? "brood" : "broodless";
   const settings = await loadBusinessSettings(trx);
-  const doseGrams = tally.outcome === "treated" ? doseGramsForColony(colony.brood_boxes, settings.doseGramsPerBroodBox) : 0;
+  const doseGrams = tally.outcome === "treated" ? doseGramsForColonyOfType(broodBoxes, boxType, settings) : 0;
   if (tally.outcome === "treated" && !(doseGrams > 0)) {
     // Only a colony left with 0 brood boxes gets here; a "treated" tally of 0 g would be a false record.
     throw new TallyRefused("invalid", zeroDoseMessage(colony.label), { outcome: zeroDoseMessage(colony.label) });
@@ -534,6 +558,12 @@ async function recordTallyTx(trx: Knex.Transaction, input: TallyInput, now: Date
     // Two phones, one colony: the tally recorded last wins, whichever arrives last.
     result = { ...tallyView(existing, access.serviceDate, settings), superseded: true };
   } else {
+    if (tally.outcome === "treated") {
+      // Counted after the tally row's lock, so two phones treating one colony are counted in turn.
+      const already = await treatedThisSeason(trx, { yardId: access.yardId, colonyId: Number(colony.id), serviceDate: access.serviceDate, exceptVisitId: access.visitId });
+      const problem = applicationCapProblem(colony.label, already, settings.maxApplicationsPerColonyPerSeason);
+      if (problem) throw new TallyRefused("invalid", problem, { outcome: problem });
+    }
     const values = {
       visit_id: access.visitId,
       colony_id: Number(colony.id),
@@ -541,7 +571,9 @@ async function recordTallyTx(trx: Knex.Transaction, input: TallyInput, now: Date
       outcome: tally.outcome,
       skip_reason: tally.skipReason,
       skip_note: tally.skipNote,
-      brood_boxes: colony.brood_boxes,
+      brood_boxes: broodBoxes,
+      box_type: boxType,
+      brood_seen: tally.broodSeen,
       dose_grams: doseGrams,
       mites: tally.mites,
       bees_sampled: wash?.beesSampled ?? null,
@@ -557,6 +589,20 @@ async function recordTallyTx(trx: Knex.Transaction, input: TallyInput, now: Date
       .onConflict(["visit_id", "colony_label"])
       .merge({ ...values, updated_at: trx.fn.now() as unknown as Date })
       .returning("*");
+    const corrected = broodBoxes !== colony.brood_boxes || boxType !== colony.box_type || broodStatus !== colony.brood_status;
+    if (corrected) {
+      await trx("colonies")
+        .where({ id: colony.id })
+        .update({ brood_boxes: broodBoxes, box_type: boxType, brood_status: broodStatus, updated_at: trx.fn.now() as unknown as Date });
+      await trx("audit_log").insert({
+        actor_user_id: userId,
+        action: "colony.correct",
+        entity_type: "colony",
+        entity_id: String(colony.id),
+        before: JSON.stringify({ colonyLabel: colony.label, broodBoxes: colony.brood_boxes, boxType: colony.box_type, broodStatus: colony.brood_status }),
+        after: JSON.stringify({ colonyLabel: colony.label, broodBoxes, boxType, broodStatus, visitId: access.visitId, key }),
+      });
+    }
     if (access.visitStatus === "scheduled" || !access.startedAt) {
       await trx("visits")
         .where({ id: access.visitId })
@@ -577,6 +623,9 @@ async function recordTallyTx(trx: Knex.Transaction, input: TallyInput, now: Date
         outcome: tally.outcome,
         skipReason: tally.skipReason,
         doseGrams,
+        broodBoxes,
+        boxType,
+        ...(tally.broodSeen !== null ? { broodSeen: tally.broodSeen } : {}),
         mites: tally.mites,
         beesSampled: wash?.beesSampled ?? null,
         ...(wash?.beesEstimated ? { beesEstimated: true, sampleMl: wash.sampleMl } : {}),
@@ -589,14 +638,91 @@ async function recordTallyTx(trx: Knex.Transaction, input: TallyInput, now: Date
   return result;
 }
 
+/** The calendar year of a service day ("2026-11-10" → 2026): the season the cap counts in. */
+function seasonYear(serviceDate: string): number {
+  return Number(serviceDate.slice(0, 4));
+}
+
+/**
+ * Treated tallies of a colony (by id, at this yard) in the service day's calendar year, leaving
+ * out one visit's (the visit being recorded: re-recording a colony there is a change, not a
+ * new application).
+ */
+async function treatedThisSeason(db: Knex, input: { yardId: number; colonyId: number; serviceDate: string; exceptVisitId?: number }): Promise<number> {
+  const year = seasonYear(input.serviceDate);
+  const query = db("tallies")
+    .join("visits", "visits.id", "tallies.visit_id")
+    .where("tallies.colony_id", input.colonyId)
+    .where("tallies.outcome", "treated")
+    .where("visits.yard_id", input.yardId)
+    .where("visits.service_date", ">=", `${year}-01-01`)
+    .where("visits.service_date", "<=", `${year}-12-31`);
+  if (input.exceptVisitId !== undefined) query.whereNot("tallies.visit_id", input.exceptVisitId);
+  const row = await query.count<{ n: string }[]>({ n: "tallies.id" }).first();
+  return Number(row?.n ?? 0);
+}
+
 /**
  * Records (or replaces) one colony's tally at a visit. Treatment needs the supers confirmed
  * off; a skipped colony needs a reason. The dose comes from the colony's brood boxes and the
- * dose rate in settings. The same key twice changes nothing and returns the first result;
+ * dose rate in settings for its box type — as the crew corrected them at the hive, when they
+ * did (the colony's record is corrected in the same transaction, and audited); a colony treated the season's most times is refused. The same key twice changes nothing and returns the first result;
  * after the visit is finished, a new key is refused.
  */
 export async function recordTally(db: Knex, input: TallyInput, now = new Date()): Promise<TallyResult> {
   return inTransaction(db, (trx) => recordTallyTx(trx, input, now));
+}
+
+// ---------------------------------------------------------------------------------------
+// Air temperature at the yard
+
+export type AirTempResult = {
+  visitId: number;
+  airTempC: number;
+  /** The business's band warning when the temperature lies outside it (never a refusal). */
+  warning: string | null;
+  duplicate?: boolean;
+};
+
+type AirTempInput = { visitId: number | string; crewId: number | string; userId: number | string; idempotencyKey: string; airTempC: number | string };
+
+async function recordAirTemperatureTx(trx: Knex.Transaction, input: AirTempInput): Promise<AirTempResult> {
+  const access = await stopAccess(trx, input.visitId, input.crewId, true);
+  const userId = await assertCrewMember(trx, access.crewId, input.userId);
+  const key = parseKey(input.idempotencyKey);
+  const stored = await appliedChange(trx, key, access.crewId, "air_temp", access.visitId);
+  if (stored) return { ...(stored as AirTempResult), duplicate: true };
+  if (access.visitStatus === "done") throw new TallyRefused("visit_finished", MESSAGES.finished);
+  const parsed = airTempPayloadSchema.safeParse({ visitId: access.visitId, airTempC: input.airTempC });
+  if (!parsed.success) {
+    const errors = fieldErrors(parsed.error);
+    throw new TallyRefused("invalid", firstMessage(errors, "Check the air temperature."), errors);
+  }
+  const airTempC = parsed.data.airTempC;
+  const settings = await loadBusinessSettings(trx);
+  const before = await trx("visits").where({ id: access.visitId }).first("air_temp_c");
+  await trx("visits").where({ id: access.visitId }).update({ air_temp_c: String(airTempC), updated_at: trx.fn.now() as unknown as Date });
+  const warning = airTemperatureWarning(airTempC, settings);
+  await trx("audit_log").insert({
+    actor_user_id: userId,
+    action: "visit.air_temp",
+    entity_type: "visit",
+    entity_id: String(access.visitId),
+    before: before?.air_temp_c === null || before?.air_temp_c === undefined ? null : JSON.stringify({ airTempC: Number(before.air_temp_c) }),
+    after: JSON.stringify({ airTempC, warning, key }),
+  });
+  const result: AirTempResult = { visitId: access.visitId, airTempC, warning };
+  await recordAppliedChange(trx, { key, crewId: access.crewId, kind: "air_temp", visitId: access.visitId, userId, result });
+  return result;
+}
+
+/**
+ * Records the air temperature (°C) the crew read at the yard. Outside the business's band
+ * the answer carries a warning; the temperature is recorded regardless. The same key twice
+ * changes nothing and returns the first result.
+ */
+export async function recordAirTemperature(db: Knex, input: AirTempInput): Promise<AirTempResult> {
+  return inTransaction(db, (trx) => recordAirTemperatureTx(trx, input));
 }
 
 // ---------------------------------------------------------------------------------------
@@ -626,6 +752,8 @@ export type ApplicationRecord = {
   applicatorName: string | null;
   applicatorLicence: string | null;
   weatherNote: string | null;
+  /** The air temperature the crew read at the yard, °C, when they gave it. */
+  airTempC: number | null;
 };
 
 /** What an application record calls the site treated. */
@@ -653,6 +781,7 @@ export async function applicationRecordForVisit(db: Knex, visitId: number, setti
       "visits.supers_confirmed_at",
       "visits.finished_at",
       "visits.weather_note",
+      "visits.air_temp_c",
       "customers.name as customer_name",
       "customers.address_line",
       "customers.city",
@@ -691,6 +820,7 @@ export async function applicationRecordForVisit(db: Knex, visitId: number, setti
     applicatorName: row.applicator_name ?? null,
     applicatorLicence: row.applicator_licence ?? null,
     weatherNote: row.weather_note,
+    airTempC: row.air_temp_c === null || row.air_temp_c === undefined ? null : Number(row.air_temp_c),
   };
 }
 
@@ -714,6 +844,8 @@ export type VisitReport = {
   colonies: ReportColony[];
   nextRound: { visitId: number; date: string; status: string; deferred: boolean } | null;
   courseComplete: boolean;
+  /** Rounds added to the course because the crew found brood at this visit (0 when none). */
+  roundsAdded: number;
   weatherNote: string | null;
 };
 
@@ -744,9 +876,10 @@ async function loadVisitReport(db: Knex, visitId: number, settings: BusinessSett
       "customers.email as customer_email",
     );
   if (!visit) return null;
-  const [tallies, next] = await oneByOne([
+  const [tallies, next, roundsAdded] = await oneByOne([
     db("tallies").where({ visit_id: visitId }).select("*"),
     db("visits").where({ course_id: visit.course_id, round_number: visit.round_number + 1 }).whereNot({ status: "cancelled" }).first("id", "service_date", "status"),
+    roundsAddedAtVisit(db, visitId, Number(visit.course_id)),
   ]);
   const colonies: ReportColony[] = [...tallies].sort(byLabel).map((t) => {
     const load = miteLoadFor(t.mites, t.bees_sampled, visit.service_date, settings);
@@ -786,6 +919,7 @@ async function loadVisitReport(db: Knex, visitId: number, settings: BusinessSett
     colonies,
     nextRound: next ? { visitId: Number(next.id), date: next.service_date, status: next.status, deferred: next.status === "deferred" } : null,
     courseComplete: visit.course_status === "complete",
+    roundsAdded,
     weatherNote: visit.weather_note,
   };
 }
@@ -827,6 +961,8 @@ export type FinishResult = {
   nextVisitStatus: "scheduled" | "deferred" | null;
   nextVisitDeferReason: string | null;
   courseComplete: boolean;
+  /** Rounds added to a course planned broodless because the crew found brood at this visit (0 when none). */
+  roundsAdded: number;
   runDone: boolean;
   applicationRecord: ApplicationRecord | null;
 };
@@ -862,9 +998,51 @@ async function finishedResult(trx: Knex, visitId: number, settings: BusinessSett
     nextVisitStatus: report?.nextRound ? (report.nextRound.deferred ? "deferred" : "scheduled") : null,
     nextVisitDeferReason: next?.defer_reason ?? null,
     courseComplete: report?.courseComplete ?? false,
+    roundsAdded: report?.roundsAdded ?? 0,
     runDone: stop?.status === "done",
     applicationRecord: await applicationRecordForVisit(trx, visitId, settings),
   };
+}
+
+/**
+ * Brood found in a course planned broodless (one round): the course gets the rounds of a
+ * course with brood (settings), the yard is on record with brood, and the next round is then
+ * scheduled as for any course. Returns the rounds added (0 when nothing changed).
+ */
+async function addRoundsForBroodFound(trx: Knex.Transaction, access: StopAccess, settings: BusinessSettings, userId: number): Promise<number> {
+  const course = await trx("courses").where({ id: access.courseId }).forUpdate().first("id", "rounds_planned", "interval_days", "brood_status", "status");
+  if (!course || course.status === "cancelled" || course.rounds_planned !== 1 || settings.roundsWithBrood <= 1) return 0;
+  const broodSeen = await trx("tallies").where({ visit_id: access.visitId, brood_seen: true }).first("id");
+  if (!broodSeen) return 0;
+  const roundsAdded = settings.roundsWithBrood - course.rounds_planned;
+  await trx("courses").where({ id: course.id }).update({
+    rounds_planned: settings.roundsWithBrood,
+    interval_days: settings.roundIntervalDays,
+    brood_status: "brood",
+    updated_at: trx.fn.now() as unknown as Date,
+  });
+  const yard = await trx("yards").where({ id: access.yardId }).forUpdate().first("brood_status");
+  if (yard && yard.brood_status !== "brood") {
+    await trx("yards").where({ id: access.yardId }).update({ brood_status: "brood", updated_at: trx.fn.now() as unknown as Date });
+  }
+  await trx("audit_log").insert({
+    actor_user_id: userId,
+    action: "course.rounds_added",
+    entity_type: "course",
+    entity_id: String(course.id),
+    before: JSON.stringify({ roundsPlanned: course.rounds_planned, intervalDays: course.interval_days, broodStatus: course.brood_status, yardBroodStatus: yard?.brood_status ?? null }),
+    after: JSON.stringify({ roundsPlanned: settings.roundsWithBrood, intervalDays: settings.roundIntervalDays, broodStatus: "brood", yardBroodStatus: "brood", roundsAdded, visitId: access.visitId }),
+  });
+  return roundsAdded;
+}
+
+/** Rounds added to the course when this visit found brood (its "course.rounds_added" audit row), or 0. */
+async function roundsAddedAtVisit(db: Knex, visitId: number, courseId: number): Promise<number> {
+  const row = await db("audit_log")
+    .where({ action: "course.rounds_added", entity_type: "course", entity_id: String(courseId) })
+    .whereRaw("after->>'visitId' = ?", [String(visitId)])
+    .first("after");
+  return row ? Number((row.after as { roundsAdded?: number }).roundsAdded ?? 0) : 0;
 }
 
 /** Schedules the course's next round after a finished visit, or completes the course. */
@@ -947,13 +1125,14 @@ async function finishVisitTx(trx: Knex.Transaction, input: FinishInput, now: Dat
   const userId = await assertCrewMember(trx, access.crewId, input.userId);
   const key = parseKey(input.finishKey);
   const stored = await appliedChange(trx, key, access.crewId, "finish", access.visitId);
-  if (stored) return { result: { ...(stored as FinishResult), alreadyFinished: true }, emailIds: [] };
+  // Results stored before roundsAdded existed read as none added.
+  if (stored) return { result: { ...(stored as FinishResult), roundsAdded: (stored as Partial<FinishResult>).roundsAdded ?? 0, alreadyFinished: true }, emailIds: [] };
 
   const settings = await loadBusinessSettings(trx);
   if (access.visitStatus === "done") {
     // Finished before under another key: the first finish's result, nothing new.
     const first = access.finishKey ? await trx("applied_changes").where({ key: access.finishKey }).first("result") : null;
-    const result: FinishResult = first ? { ...(first.result as FinishResult), alreadyFinished: true } : await finishedResult(trx, access.visitId, settings);
+    const result: FinishResult = first ? { ...(first.result as FinishResult), roundsAdded: (first.result as Partial<FinishResult>).roundsAdded ?? 0, alreadyFinished: true } : await finishedResult(trx, access.visitId, settings);
     await recordAppliedChange(trx, { key, crewId: access.crewId, kind: "finish", visitId: access.visitId, userId, result });
     return { result, emailIds: [] };
   }
@@ -997,6 +1176,8 @@ async function finishVisitTx(trx: Knex.Transaction, input: FinishInput, now: Dat
       updated_at: trx.fn.now() as unknown as Date,
     });
 
+  // Before the next round is scheduled: brood found may add rounds to a broodless course.
+  const roundsAdded = await addRoundsForBroodFound(trx, access, settings, userId);
   const next = await scheduleNextRound(trx, access, settings, userId);
   const invoice = await createInvoiceForVisit(trx, { visitId: access.visitId, issuedOn: dateInZone(now, settings.timeZone), actorUserId: userId });
 
@@ -1034,6 +1215,7 @@ async function finishVisitTx(trx: Knex.Transaction, input: FinishInput, now: Dat
         colonies: report.colonies,
         nextRound: report.nextRound ? { date: report.nextRound.date, deferred: report.nextRound.deferred } : null,
         courseComplete: next.courseComplete,
+        roundsAdded: report.roundsAdded,
         portalUrl: visitReportUrl(access.visitId),
       }),
       customerId: report.customerId,
@@ -1056,6 +1238,7 @@ async function finishVisitTx(trx: Knex.Transaction, input: FinishInput, now: Dat
     nextVisitStatus: next.nextVisitStatus,
     nextVisitDeferReason: next.deferReason,
     courseComplete: next.courseComplete,
+    roundsAdded,
     runDone,
     applicationRecord,
   };
@@ -1090,6 +1273,20 @@ export async function finishVisit(db: Knex, input: FinishInput, now = new Date()
 // ---------------------------------------------------------------------------------------
 // The stop screen
 
+export type StopColony = {
+  label: string;
+  broodBoxes: number;
+  boxType: BoxType;
+  boxTypeLabel: string;
+  doseGrams: number;
+  /** How the dose was worked out: boxes × rate, and the vaporizer loads it takes. */
+  doseAssumption: string;
+  /** Treated tallies this calendar year (this visit's included) and the season's cap. */
+  applicationsThisSeason: number;
+  applicationCap: number;
+  tally: TallyView | null;
+};
+
 export type StopDetail = {
   visitId: number;
   status: string;
@@ -1104,19 +1301,33 @@ export type StopDetail = {
   yard: { id: number; name: string; address: string | null; lat: number; lng: number; accessNotes: string; photoIds: number[]; geoUri: string };
   customer: { name: string; phone: string | null };
   supers: { confirmed: boolean; confirmedAt: string | null; confirmedBy: number | null };
-  colonies: { label: string; broodBoxes: number; doseGrams: number; tally: TallyView | null }[];
+  colonies: StopColony[];
+  /** Box types whose dose rate the owner set above the label maximum (confirmed in settings). */
+  doseAboveLabel: { boxType: BoxType; label: string; grams: number }[];
+  /** The air temperature read at the yard (°C) and the band warning for it. */
+  airTempC: number | null;
+  airTempWarning: string | null;
   /** Tallies of colonies no longer active at the yard (retired after they were recorded). */
   otherTallies: TallyView[];
   totals: { colonies: number; tallied: number; treated: number; skipped: number; grams: number; gramsPlanned: number };
   finishedAt: string | null;
-  settings: { doseGramsPerBroodBox: number; sublimationSeconds: number; entranceClosedMinutes: number; timeZone: string; unitSystem: "metric" | "us" };
+  settings: {
+    doseGramsPerBroodBox: number;
+    sublimationSeconds: number;
+    entranceClosedMinutes: number;
+    timeZone: string;
+    unitSystem: "metric" | "us";
+    airTempMinC: number;
+    airTempMaxC: number;
+  };
 };
 
 /** Everything the crew's stop screen needs; "not your run" unless the stop is on the crew's run. */
 export async function crewStopDetail(db: Knex, input: { visitId: number | string; crewId: number | string }): Promise<StopDetail> {
   const access = await stopAccess(db, input.visitId, input.crewId, false);
   const settings = await loadBusinessSettings(db);
-  const [visit, stop, colonies, tallies, photos] = await oneByOne([
+  const year = seasonYear(access.serviceDate);
+  const [visit, stop, colonies, tallies, photos, applications] = await oneByOne([
     db("visits")
       .join("yards", "yards.id", "visits.yard_id")
       .join("customers", "customers.id", "yards.customer_id")
@@ -1126,6 +1337,7 @@ export async function crewStopDetail(db: Knex, input: { visitId: number | string
         "visits.supers_confirmed_at",
         "visits.supers_confirmed_by",
         "visits.finished_at",
+        "visits.air_temp_c",
         "courses.rounds_planned",
         "yards.name as yard_name",
         "yards.address",
@@ -1136,20 +1348,36 @@ export async function crewStopDetail(db: Knex, input: { visitId: number | string
         "customers.phone as customer_phone",
       ),
     db("stops").where({ visit_id: access.visitId }).first("position", "arrive_at", "start_at", "leave_at"),
-    db("colonies").where({ yard_id: access.yardId, active: true }).orderByRaw("length(label), label").select("label", "brood_boxes"),
+    db("colonies").where({ yard_id: access.yardId, active: true }).orderByRaw("length(label), label").select("id", "label", "brood_boxes", "box_type"),
     db("tallies").where({ visit_id: access.visitId }).select("*"),
     db("attachments")
       .where((q) => q.where({ yard_id: access.yardId }).orWhere({ visit_id: access.visitId }))
       .orderBy("id")
       .select("id"),
+    db("tallies")
+      .join("visits", "visits.id", "tallies.visit_id")
+      .where("visits.yard_id", access.yardId)
+      .where("tallies.outcome", "treated")
+      .whereNotNull("tallies.colony_id")
+      .where("visits.service_date", ">=", `${year}-01-01`)
+      .where("visits.service_date", "<=", `${year}-12-31`)
+      .groupBy("tallies.colony_id")
+      .select("tallies.colony_id", db.raw("count(*)::int as n")) as unknown as Promise<{ colony_id: string | number; n: number }[]>,
   ]);
+  const applied = new Map(applications.map((a) => [Number(a.colony_id), Number(a.n)]));
   const views = new Map(tallies.map((t) => [t.colony_label, tallyView(t, access.serviceDate, settings)]));
-  const rows = colonies.map((c) => ({
+  const rows: StopColony[] = colonies.map((c) => ({
     label: c.label,
     broodBoxes: c.brood_boxes,
-    doseGrams: doseGramsForColony(c.brood_boxes, settings.doseGramsPerBroodBox),
+    boxType: c.box_type,
+    boxTypeLabel: BOX_TYPE_LABELS[c.box_type],
+    doseGrams: doseGramsForColonyOfType(c.brood_boxes, c.box_type, settings),
+    doseAssumption: doseAssumption({ broodBoxes: c.brood_boxes, boxType: c.box_type, rates: settings, loadGrams: settings.vaporizerLoadGrams }),
+    applicationsThisSeason: applied.get(Number(c.id)) ?? 0,
+    applicationCap: settings.maxApplicationsPerColonyPerSeason,
     tally: views.get(c.label) ?? null,
   }));
+  const airTempC = visit!.air_temp_c === null || visit!.air_temp_c === undefined ? null : Number(visit!.air_temp_c);
   const activeLabels = new Set(colonies.map((c) => c.label));
   const all = [...views.values()];
   const treated = all.filter((t) => t.outcome === "treated");
@@ -1186,6 +1414,9 @@ export async function crewStopDetail(db: Knex, input: { visitId: number | string
     customer: { name: visit!.customer_name, phone: visit!.customer_phone },
     supers: { confirmed: visit!.supers_confirmed_at !== null, confirmedAt: iso(visit!.supers_confirmed_at), confirmedBy: visit!.supers_confirmed_by },
     colonies: rows,
+    doseAboveLabel: doseRatesAboveLabel(settings),
+    airTempC,
+    airTempWarning: airTempC === null ? null : airTemperatureWarning(airTempC, settings),
     otherTallies: all.filter((t) => !activeLabels.has(t.colonyLabel)),
     totals: {
       colonies: rows.length,
@@ -1202,6 +1433,8 @@ export async function crewStopDetail(db: Knex, input: { visitId: number | string
       entranceClosedMinutes: settings.entranceClosedMinutes,
       timeZone: settings.timeZone,
       unitSystem: settings.unitSystem,
+      airTempMinC: settings.airTempMinC,
+      airTempMaxC: settings.airTempMaxC,
     },
   };
 }
@@ -1236,7 +1469,11 @@ const STATUS_BY_CODE: Record<TallyRefusalCode, SyncStatus> = {
  * or null. Details are given only for a stop the phone had on one of this crew's runs;
  * otherwise the answer is the plain "not on your run".
  */
-async function stopConflict(db: Knex, change: SyncChange, crewId: number): Promise<string | null> {
+async function stopConflict(
+  db: Knex,
+  change: { kind: "safety"; runId?: number; payload: { runId: number } } | { kind: Exclude<SyncKind, "safety">; runId?: number; payload: { visitId: number } },
+  crewId: number,
+): Promise<string | null> {
   if (change.kind === "safety") {
     const run = await db("runs").where({ id: change.payload.runId }).first("crew_id", "status");
     if (!run || Number(run.crew_id) !== crewId) return "That run is not your crew's.";
@@ -1301,6 +1538,10 @@ async function applyOneChange(
         emailIds: [],
       };
     }
+    case "air_temp": {
+      const result = await recordAirTemperatureTx(trx, { visitId: change.payload.visitId, crewId, userId, idempotencyKey: change.key, airTempC: change.payload.airTempC });
+      return { outcome: { ...base, status: result.duplicate ? "duplicate" : "applied", message: result.warning ?? undefined, result }, emailIds: [] };
+    }
     case "finish": {
       const { result, emailIds } = await finishVisitTx(
         trx,
@@ -1319,7 +1560,18 @@ function keyOf(raw: unknown, index: number): string {
 
 function kindOf(raw: unknown): SyncKind | null {
   const kind = typeof raw === "object" && raw !== null ? (raw as { kind?: unknown }).kind : undefined;
-  return kind === "safety" || kind === "supers" || kind === "tally" || kind === "finish" ? kind : null;
+  return (SYNC_KINDS as readonly unknown[]).includes(kind) ? (kind as SyncKind) : null;
+}
+
+function refusedOutcome(key: string, kind: SyncKind | null, error: TallyRefused): SyncOutcome {
+  return {
+    key,
+    kind,
+    status: STATUS_BY_CODE[error.code],
+    code: error.code,
+    message: error.code === "visit_finished" ? "This visit was finished meanwhile; this change was not recorded." : error.message,
+    fieldErrors: Object.keys(error.fieldErrors).length ? error.fieldErrors : undefined,
+  };
 }
 
 /**
@@ -1359,14 +1611,7 @@ export async function applySyncBatch(
       emailIds.push(...queued);
     } catch (error) {
       if (!(error instanceof TallyRefused)) throw error;
-      outcomes.push({
-        key,
-        kind,
-        status: STATUS_BY_CODE[error.code],
-        code: error.code,
-        message: error.code === "visit_finished" ? "This visit was finished meanwhile; this change was not recorded." : error.message,
-        fieldErrors: Object.keys(error.fieldErrors).length ? error.fieldErrors : undefined,
-      });
+      outcomes.push(refusedOutcome(key, kind, error));
     }
   }
   if (!db.isTransaction) await requestEmailDelivery(emailIds);

@@ -50,7 +50,7 @@ const COLUMNS: Column[] = [
   {
     heading: "Customer",
     width: 118,
-    cell: (r) => [r.customerName, r.customerAddress || null, r.customerAnonymised ? "(anonymised)" : null].filter(Boolean).join("\n"),
+    cell: (r) => [r.customerName, r.customerAddress || null, r.customerAnonymised ? "(account deleted)" : null].filter(Boolean).join("\n"),
   },
   {
     heading: "Yard and location",
@@ -60,7 +60,11 @@ const COLUMNS: Column[] = [
   { heading: "Applicator and crew", width: 170, cell: (r) => applicatorLines(r) },
   { heading: "Colonies treated", width: 50, align: "right", cell: (r) => (r.coloniesSkipped ? `${r.coloniesTreated}\n${r.coloniesSkipped} skipped` : String(r.coloniesTreated)) },
   { heading: "Grams applied", width: 46, align: "right", cell: (r) => gramsText(r.gramsApplied) },
-  { heading: "Weather", width: 114, cell: (r) => r.weatherNote ?? "—" },
+  {
+    heading: "Weather",
+    width: 114,
+    cell: (r) => [r.weatherNote, r.airTempC === null || r.airTempC === undefined ? null : `Air ${r.airTempC} °C`].filter(Boolean).join("\n") || "—",
+  },
 ];
 
 /** Renders the records of a period as a PDF. */

@@ -8,7 +8,7 @@ import { recordsCsv, RECORD_CSV_COLUMNS } from "~/domain/application-records-csv
 import { defaultBusinessSettings } from "~/domain/settings";
 import { applicationRecords, readRecordQuery, type RecordFilters } from "~/models/application-records.server";
 import { saveBusinessSettings } from "~/models/settings.server";
-import { confirmRunSafetyCheck, confirmSupersOff, finishVisit, recordTally, type FinishResult } from "~/models/tallies.server";
+import { confirmRunSafetyCheck, confirmSupersOff, finishVisit, recordAirTemperature, recordTally, type FinishResult } from "~/models/tallies.server";
 import { renderApplicationRecordsPdf } from "~/services/application-records-pdf.server";
 import { db } from "~/services/db.server";
 import { stopJobs } from "~/services/jobs.server";
@@ -46,13 +46,15 @@ type Plan = {
   recorder?: (label: string) => number;
   finisher?: number;
   weather?: string | null;
+  /** The air temperature the crew read at the yard, °C. */
+  airTempC?: number;
   finish: boolean;
   customerOf?: string;
 };
 
 const PLANS: Record<string, Plan> = {
   // In the period, finished.
-  v1: { crew: () => north, date: "2026-11-02", colonies: 3, finish: true, weather: "Frosty, still, -1 °C" },
+  v1: { crew: () => north, date: "2026-11-02", colonies: 3, finish: true, weather: "Frosty, still, -1 °C", airTempC: -1 },
   v2: {
     crew: () => north,
     date: "2026-11-02",
@@ -63,7 +65,7 @@ const PLANS: Record<string, Plan> = {
     finish: true,
     weather: null,
   },
-  v3: { crew: () => south, date: "2026-11-09", colonies: 4, broodBoxes: () => 2, skip: ["H1", "H4"], recorder: () => 1, finisher: 1, finish: true, weather: "Overcast\nwind NW 10 km/h", customerOf: "v1" },
+  v3: { crew: () => south, date: "2026-11-09", colonies: 4, broodBoxes: () => 2, skip: ["H1", "H4"], recorder: () => 1, finisher: 1, finish: true, weather: "Overcast\nwind NW 10 km/h", airTempC: 12.5, customerOf: "v1" },
   v4: { crew: () => south, date: "2026-11-15", colonies: 2, skip: ["H1", "H2"], finish: true, weather: "Rain later" },
   v5: { crew: () => north, date: TO, colonies: 1, broodBoxes: () => 3, finish: true, weather: "Mild" },
   // Outside the period, finished.
@@ -98,6 +100,9 @@ async function work(name: string, plan: Plan) {
       skipReason: skipped ? "dead_out" : null,
       recordedAt: new Date(),
     });
+  }
+  if (plan.airTempC !== undefined) {
+    await recordAirTemperature(db, { visitId: stop.visitId, crewId: crew.id, userId: member(0), idempotencyKey: aKey("air"), airTempC: plan.airTempC });
   }
   if (plan.finish) {
     finished[name] = await finishVisit(db, {
@@ -382,6 +387,7 @@ describe("application records", () => {
         Product: PRODUCT,
         "Registration number": REGISTRATION,
         Weather: row.weatherNote ?? "",
+        "Air temperature (°C)": String(PLANS[IN_PERIOD.find((n) => stops[n].visitId === visitId)!].airTempC ?? ""),
       });
       expect(line.Date).toMatch(/^\d{4}-\d{2}-\d{2}$/);
       expect(Number(line.Latitude)).toBe(row.lat);
@@ -394,6 +400,9 @@ describe("application records", () => {
     expect(v1.Customer).toBe(`O'Hara, "Bee" & Sons`);
     expect(v1["Applicator licence"]).toBe("LIC-NORTH-1");
     expect(parsed.data.find((l) => Number(l.Visit) === stops.v3.visitId)!.Weather).toBe("Overcast\nwind NW 10 km/h");
+    expect(v1["Air temperature (°C)"]).toBe("-1");
+    expect(parsed.data.find((l) => Number(l.Visit) === stops.v3.visitId)!["Air temperature (°C)"]).toBe("12.5");
+    expect(v2["Air temperature (°C)"]).toBe("");
   });
 
   it("render a PDF with one table row per visit", async () => {

@@ -57,6 +57,7 @@ describe("application records CSV", () => {
       customerName: 'Ash, "Queenie" & Co',
       yardAddress: "Lane off Route 13, Dryden",
       weatherNote: "Cold\ncalm, 2 °C",
+      airTempC: 2.5,
       applicators: [
         { name: "Sam Reed", licence: "L-77" },
         { name: "Kit Moss", licence: null },
@@ -85,19 +86,21 @@ describe("application records CSV", () => {
       Applicator: "Sam Reed; Kit Moss",
       "Applicator licence": "L-77; none on file",
       Weather: "Cold\ncalm, 2 °C",
+      "Air temperature (°C)": "2.5",
     });
   });
 
   it("defuses text a spreadsheet would run as a formula, but keeps a negative longitude a number", () => {
-    const { data } = parse(recordsCsv([aLine({ customerName: "=HYPERLINK(\"x\")", weatherNote: "-2 °C, @dawn", lng: -76.5 })]));
+    const { data } = parse(recordsCsv([aLine({ customerName: "=HYPERLINK(\"x\")", weatherNote: "-2 °C, @dawn", lng: -76.5, airTempC: -2 })]));
     expect(data[0].Customer).toBe("'=HYPERLINK(\"x\")");
     expect(data[0].Weather).toBe("'-2 °C, @dawn");
     expect(data[0].Longitude).toBe("-76.5");
+    expect(data[0]["Air temperature (°C)"]).toBe("-2");
   });
 
   it("leaves missing values blank", () => {
-    const { data } = parse(recordsCsv([aLine({ startTime: null, finishTime: null, crewName: null, applicators: [], yardAddress: null })]));
-    expect(data[0]).toMatchObject({ Start: "", Finish: "", Crew: "", Applicator: "", "Applicator licence": "", "Yard address": "" });
+    const { data } = parse(recordsCsv([aLine({ startTime: null, finishTime: null, crewName: null, applicators: [], yardAddress: null, airTempC: null })]));
+    expect(data[0]).toMatchObject({ Start: "", Finish: "", Crew: "", Applicator: "", "Applicator licence": "", "Yard address": "", "Air temperature (°C)": "" });
   });
 });
 

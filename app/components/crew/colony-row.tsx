@@ -1,10 +1,70 @@
 import { useState } from "react";
+import { BOX_TYPES, BOX_TYPE_LABELS, type BoxType } from "~/domain/box-types";
+import { MAX_BROOD_BOXES, MIN_BROOD_BOXES } from "~/forms/sync";
 import { HALF_US_CUP_ML, MAX_SAMPLE_ML, MIN_SAMPLE_ML, assessMiteLoad, beesFromSampleVolume, formatMitesPer100 } from "~/domain/mites";
 import { formatDose, roundTo } from "~/domain/units";
 import { DoseTimer } from "./dose-timer";
 import { SKIP_REASON_NAMES, type FieldColony, type FieldSettings, type FieldTally, type SkipReason } from "./field-types";
 
 const BIG = "min-h-12 rounded-lg border-2 px-4 text-lg font-bold";
+const STEP = "min-h-11 min-w-11 rounded-lg border-2 border-line bg-card px-3 text-xl font-bold disabled:opacity-50";
+
+type Findings = { broodBoxes: number; boxType: BoxType; broodSeen: boolean | null };
+
+/**
+ * What the crew found at the hive — brood boxes, box type, brood seen — sent with the colony's
+ * tally. Big targets: steppers and a select, for gloved hands.
+ */
+function HiveFindings({ label, findings, disabled, onChange }: { label: string; findings: Findings; disabled: boolean; onChange: (next: Findings) => void }) {
+  const set = (patch: Partial<Findings>) => onChange({ ...findings, ...patch });
+  const seen: { value: boolean | null; name: string }[] = [
+    { value: true, name: "Brood" },
+    { value: false, name: "No brood" },
+    { value: null, name: "Not looked" },
+  ];
+  return (
+    <fieldset className="mt-2 flex flex-col gap-2 rounded-lg border-2 border-line p-2" data-findings={label} disabled={disabled}>
+      <legend className="px-1 font-semibold">What you found in {label}</legend>
+      <div className="flex flex-wrap items-center gap-2">
+        <span className="font-semibold" id={`boxes-${label}`}>
+          Brood boxes
+        </span>
+        <button type="button" className={STEP} aria-label={`One brood box fewer in ${label}`} disabled={findings.broodBoxes <= MIN_BROOD_BOXES} onClick={() => set({ broodBoxes: findings.broodBoxes - 1 })}>
+          −
+        </button>
+        <output aria-labelledby={`boxes-${label}`} className="min-w-8 text-center text-xl font-bold">
+          {findings.broodBoxes}
+        </output>
+        <button type="button" className={STEP} aria-label={`One brood box more in ${label}`} disabled={findings.broodBoxes >= MAX_BROOD_BOXES} onClick={() => set({ broodBoxes: findings.broodBoxes + 1 })}>
+          +
+        </button>
+      </div>
+      <label className="flex flex-col font-semibold">
+        Box type
+        <select value={findings.boxType} onChange={(e) => set({ boxType: e.target.value as BoxType })} className="min-h-11 rounded-lg border-2 border-line bg-card px-3 text-lg">
+          {BOX_TYPES.map((t) => (
+            <option key={t} value={t}>
+              {BOX_TYPE_LABELS[t]}
+            </option>
+          ))}
+        </select>
+      </label>
+      <div role="group" aria-label={`Brood seen in ${label}`} className="grid grid-cols-3 gap-2">
+        {seen.map((s) => (
+          <button
+            key={String(s.value)}
+            type="button"
+            aria-pressed={findings.broodSeen === s.value}
+            onClick={() => set({ broodSeen: s.value })}
+            className={`min-h-11 rounded-lg border-2 px-2 font-semibold ${findings.broodSeen === s.value ? "border-pine-800 bg-pine-700 text-white" : "border-line bg-card"}`}
+          >
+            {s.name}
+          </button>
+        ))}
+      </div>
+    </fieldset>
+  );
+}
 
 /** One colony's tally: treated or skipped (with a reason), an optional wash count, notes. */
 export function ColonyRow({
@@ -54,7 +114,25 @@ export function ColonyRow({
   const washCheck = washInput();
   const washHalf = !washCheck.complete;
   const base: FieldTally = tally ?? { colonyLabel: colony.label, outcome: "treated", skipReason: null, skipNote: null, mites: null, beesSampled: null, sampleMl: null, notes: null };
-  const save = (patch: Partial<FieldTally>) => onChange({ ...base, ...patch });
+  // Findings go into the tally sent: given now, or kept until the colony is tallied.
+  const [showFindings, setShowFindings] = useState(false);
+  const recordBoxType: BoxType = colony.boxType ?? "deep";
+  const [findings, setFindings] = useState<Findings>({
+    broodBoxes: tally?.broodBoxes ?? Math.min(Math.max(colony.broodBoxes, MIN_BROOD_BOXES), MAX_BROOD_BOXES),
+    boxType: tally?.boxType ?? recordBoxType,
+    broodSeen: tally?.broodSeen ?? null,
+  });
+  const corrections = (f: Findings): Partial<FieldTally> => ({
+    broodBoxes: f.broodBoxes !== colony.broodBoxes ? f.broodBoxes : (tally?.broodBoxes ?? null),
+    boxType: f.boxType !== recordBoxType ? f.boxType : (tally?.boxType ?? null),
+    broodSeen: f.broodSeen,
+  });
+  const save = (patch: Partial<FieldTally>) => onChange({ ...base, ...corrections(findings), ...patch });
+  const changeFindings = (next: Findings) => {
+    setFindings(next);
+    if (tally) onChange({ ...tally, ...corrections(next) });
+  };
+  const corrected = findings.broodBoxes !== colony.broodBoxes || findings.boxType !== recordBoxType || findings.broodSeen !== null;
   // Bees counted win; otherwise the estimate from the volume, as the server makes it.
   const estimatedBees =
     tally?.beesSampled == null && tally?.sampleMl != null && settings.beesPer100Ml ? beesFromSampleVolume(tally.sampleMl, settings.beesPer100Ml) : null;
@@ -72,6 +150,17 @@ export function ColonyRow({
         </p>
         {tally ? <span className="font-bold">{tally.outcome === "treated" ? "Treated ✓" : `Skipped: ${tally.skipReason ? SKIP_REASON_NAMES[tally.skipReason] : "reason?"}`}</span> : null}
       </div>
+      {colony.boxTypeLabel || colony.doseAssumption ? (
+        <p className="text-ink-soft">
+          {colony.boxTypeLabel ? <span className="font-semibold">{colony.boxTypeLabel}. </span> : null}
+          {colony.doseAssumption ?? null}
+        </p>
+      ) : null}
+      {colony.applicationCap !== undefined && colony.applicationsThisSeason !== undefined ? (
+        <p className={colony.applicationsThisSeason >= colony.applicationCap ? "font-semibold text-alarm-700" : "text-ink-soft"}>
+          Applications this season: {colony.applicationsThisSeason} of {colony.applicationCap}
+        </p>
+      ) : null}
       <div className="mt-2 grid grid-cols-2 gap-2">
         <button
           type="button"
@@ -136,10 +225,23 @@ export function ColonyRow({
       ) : null}
       <div className="mt-2 flex flex-wrap gap-2">
         {tally?.outcome !== "skipped" ? <DoseTimer seconds={settings.sublimationSeconds} label={colony.label} /> : null}
+        <button
+          type="button"
+          disabled={locked && !tally}
+          onClick={() => setShowFindings((v) => !v)}
+          aria-expanded={showFindings}
+          className={`min-h-11 rounded-lg border-2 px-3 font-semibold disabled:opacity-50 ${corrected ? "border-pine-700 bg-pine-50" : "border-line bg-card"}`}
+        >
+          Correct boxes / brood <span className="sr-only">for {colony.label}</span>
+        </button>
         <button type="button" disabled={!tally} onClick={() => setShowWash((v) => !v)} aria-expanded={showWash} className="min-h-12 rounded-lg border-2 border-line bg-card px-3 font-semibold disabled:opacity-50">
           {showWash ? "Hide wash count" : "Add wash count"} <span className="sr-only">for {colony.label}</span>
         </button>
       </div>
+      {showFindings ? <HiveFindings label={colony.label} findings={findings} disabled={locked && !tally} onChange={changeFindings} /> : null}
+      {!showFindings && findings.broodSeen !== null ? (
+        <p className="mt-1 font-semibold text-ink-soft">{findings.broodSeen ? "Brood seen" : "No brood seen"}</p>
+      ) : null}
       {showWash && tally ? (
         <div className="mt-2 grid grid-cols-2 gap-2" data-wash={colony.label}>
           <label className="flex flex-col font-semibold">

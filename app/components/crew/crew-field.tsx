@@ -166,6 +166,8 @@ export function CrewField({ serverRun, title }: { serverRun: FieldRun; title: st
           onBack={() => setOpenStop(null)}
           onSupers={() => record({ kind: "supers", payload: { visitId: stop.visitId } } as FieldChange)}
           onTally={(tally: FieldTally) => record({ kind: "tally", payload: { ...tally, visitId: stop.visitId, recordedAt: new Date().toISOString() } } as FieldChange)}
+          onAirTemp={(airTempC) => record({ kind: "air_temp", payload: { visitId: stop.visitId, airTempC } } as FieldChange)}
+          doseAboveLabel={run.doseAboveLabel ?? []}
           onFinish={(weatherNote) => record({ kind: "finish", payload: { visitId: stop.visitId, weatherNote, notes: null } } as FieldChange)}
         />
         <SafetyCautions audience="crew" className="mt-6" />

@@ -1,4 +1,5 @@
-import type { FieldChange, FieldRun, FieldStop, FieldTally } from "./field-types";
+import { BOX_TYPE_LABELS, doseGramsForColonyOfType } from "~/domain/box-types";
+import type { FieldChange, FieldColony, FieldRun, FieldSettings, FieldStop, FieldTally } from "./field-types";
 
 /** The run as the crew sees it: the server's snapshot with the phone's own changes on top. */
 export function applyChanges(run: FieldRun, changes: readonly FieldChange[]): FieldRun {
@@ -9,6 +10,41 @@ function updateStop(run: FieldRun, visitId: number, update: (stop: FieldStop) =>
   return { ...run, stops: run.stops.map((s) => (s.visitId === visitId ? update(s) : s)) };
 }
 
+/**
+ * A colony as the crew corrected it at the hive: its boxes and box type, and the dose from
+ * them (the server doses the same way). Without the rate of a box type the dose is left as it
+ * was; the server's snapshot brings the right one.
+ */
+export function correctedColony(colony: FieldColony, tally: FieldTally, settings: FieldSettings): FieldColony {
+  const broodBoxes = tally.broodBoxes ?? colony.broodBoxes;
+  const boxType = tally.boxType ?? colony.boxType ?? "deep";
+  if (broodBoxes === colony.broodBoxes && boxType === (colony.boxType ?? "deep")) return colony;
+  const rates = {
+    doseGramsPerBroodBox: settings.doseGramsPerBroodBox,
+    doseGramsPerMediumBox: settings.doseGramsPerMediumBox ?? Number.NaN,
+    doseGramsPerNucBox: settings.doseGramsPerNucBox ?? Number.NaN,
+  };
+  const grams = doseGramsForColonyOfTypeOrNull(broodBoxes, boxType, rates);
+  return {
+    ...colony,
+    broodBoxes,
+    boxType,
+    boxTypeLabel: BOX_TYPE_LABELS[boxType],
+    doseGrams: grams ?? colony.doseGrams,
+    // The sentence was for the record's boxes; the dose line above says the corrected one.
+    doseAssumption: undefined,
+  };
+}
+
+function doseGramsForColonyOfTypeOrNull(...args: Parameters<typeof doseGramsForColonyOfType>): number | null {
+  try {
+    const grams = doseGramsForColonyOfType(...args);
+    return Number.isFinite(grams) ? grams : null;
+  } catch {
+    return null;
+  }
+}
+
 export function applyChange(run: FieldRun, change: FieldChange): FieldRun {
   switch (change.kind) {
     case "safety":
@@ -17,8 +53,18 @@ export function applyChange(run: FieldRun, change: FieldChange): FieldRun {
       return updateStop(run, change.payload.visitId, (s) => ({ ...s, supersConfirmed: true, status: s.status === "done" ? s.status : "in_progress" }));
     case "tally": {
       const { visitId, recordedAt: _recordedAt, ...tally } = change.payload;
-      return updateStop(run, visitId, (s) => (s.status === "done" ? s : { ...s, tallies: { ...s.tallies, [tally.colonyLabel]: tally as FieldTally } }));
+      return updateStop(run, visitId, (s) =>
+        s.status === "done"
+          ? s
+          : {
+              ...s,
+              colonies: s.colonies.map((c) => (c.label === tally.colonyLabel ? correctedColony(c, tally as FieldTally, run.settings) : c)),
+              tallies: { ...s.tallies, [tally.colonyLabel]: tally as FieldTally },
+            },
+      );
     }
+    case "air_temp":
+      return updateStop(run, change.payload.visitId, (s) => (s.status === "done" ? s : { ...s, airTempC: change.payload.airTempC }));
     case "finish":
       return updateStop(run, change.payload.visitId, (s) => ({ ...s, status: "done" }));
   }

@@ -12,7 +12,18 @@ export const SKIP_REASON_NAMES: Record<SkipReason, string> = {
   other: "Other",
 };
 
-export type FieldColony = { label: string; broodBoxes: number; doseGrams: number };
+export type FieldColony = {
+  label: string;
+  broodBoxes: number;
+  doseGrams: number;
+  /** The box type the dose was worked out for, and how (boxes × rate, vaporizer loads). */
+  boxType?: "deep" | "medium" | "nuc";
+  boxTypeLabel?: string;
+  doseAssumption?: string;
+  /** Treated tallies this calendar year (this visit's included) and the season's cap. */
+  applicationsThisSeason?: number;
+  applicationCap?: number;
+};
 
 export type FieldTally = {
   colonyLabel: string;
@@ -25,6 +36,11 @@ export type FieldTally = {
   /** The wash sample's volume in mL, when given instead of (or beside) the bees counted. */
   sampleMl?: number | null;
   notes: string | null;
+  /** What the crew found at the hive when it differs from the record (the colony is corrected and dosed from it). */
+  broodBoxes?: number | null;
+  boxType?: "deep" | "medium" | "nuc" | null;
+  /** Brood seen (true), none seen (false), not looked (null). */
+  broodSeen?: boolean | null;
 };
 
 export type FieldStop = {
@@ -45,6 +61,11 @@ export type FieldStop = {
   supersConfirmed: boolean;
   status: "scheduled" | "deferred" | "in_progress" | "done" | "cancelled";
   tallies: Record<string, FieldTally>;
+  /** The air temperature read at the yard, °C. */
+  airTempC?: number | null;
+  /** Rounds added to the course when this visit found brood in a course planned broodless, and the next round's day. */
+  roundsAdded?: number;
+  nextRoundDate?: string | null;
 };
 
 export type FieldSettings = {
@@ -58,6 +79,12 @@ export type FieldSettings = {
   miteThresholds: { fromMonth: number; toMonth: number; mitesPer100: number }[];
   /** Bees per 100 mL of sample, to show the estimate when only a volume is given (the server estimates regardless). */
   beesPer100Ml?: number;
+  /** Dose rates of the smaller box types, so a box type corrected on the phone shows its dose before it is sent. */
+  doseGramsPerMediumBox?: number;
+  doseGramsPerNucBox?: number;
+  /** The business's air temperature band for treating, °C (a warning outside it, never a block). */
+  airTempMinC?: number;
+  airTempMaxC?: number;
 };
 
 export type FieldRun = {
@@ -70,6 +97,8 @@ export type FieldRun = {
   driveSeconds: number;
   stops: FieldStop[];
   settings: FieldSettings;
+  /** Box types whose dose rate the owner set above the label maximum (they confirmed their label allows it). */
+  doseAboveLabel?: { boxType: string; label: string; grams: number }[];
   /** When the server made this snapshot (ISO). */
   loadedAt: string;
 };
@@ -80,6 +109,7 @@ export type FieldChange =
   | { key: string; kind: "safety"; runId: number; runVersion: number; createdAt: string; payload: { runId: number; items: SafetyItems } }
   | { key: string; kind: "supers"; runId: number; runVersion: number; createdAt: string; payload: { visitId: number } }
   | { key: string; kind: "tally"; runId: number; runVersion: number; createdAt: string; payload: FieldTally & { visitId: number; recordedAt: string } }
+  | { key: string; kind: "air_temp"; runId: number; runVersion: number; createdAt: string; payload: { visitId: number; airTempC: number } }
   | { key: string; kind: "finish"; runId: number; runVersion: number; createdAt: string; payload: { visitId: number; weatherNote: string | null; notes: string | null } };
 
 export type SyncResult = { key: string; status: "applied" | "duplicate" | "conflict" | "refused"; message?: string };

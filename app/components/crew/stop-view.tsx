@@ -1,5 +1,8 @@
 import { useState } from "react";
+import { airTemperatureWarning } from "~/domain/treatment-guards";
 import { formatDose } from "~/domain/units";
+import { formatServiceDate } from "../format";
+import { celsiusForDisplay, temperatureUnit, typedAirTempToCelsius, AIR_TEMP_MAX_C, AIR_TEMP_MIN_C } from "./air-temperature";
 import { ColonyRow } from "./colony-row";
 import { finishBlocker, stopTotals } from "./field-state";
 import type { FieldSettings, FieldStop, FieldTally } from "./field-types";
@@ -15,6 +18,8 @@ export function StopView({
   onBack,
   onSupers,
   onTally,
+  onAirTemp,
+  doseAboveLabel = [],
   onFinish,
 }: {
   stop: FieldStop;
@@ -24,12 +29,30 @@ export function StopView({
   onBack: () => void;
   onSupers: () => void;
   onTally: (tally: FieldTally) => void;
+  onAirTemp?: (airTempC: number) => void;
+  doseAboveLabel?: { label: string; grams: number }[];
   onFinish: (weatherNote: string | null) => void;
 }) {
   const totals = stopTotals(stop);
   const blocker = finishBlocker(stop);
   const [weather, setWeather] = useState("");
+  const unit = temperatureUnit(settings.unitSystem);
+  const [airTemp, setAirTemp] = useState(stop.airTempC == null ? "" : String(celsiusForDisplay(stop.airTempC, settings.unitSystem)));
+  const [airTempError, setAirTempError] = useState<string | null>(null);
+  const band = settings.airTempMinC !== undefined && settings.airTempMaxC !== undefined ? { airTempMinC: settings.airTempMinC, airTempMaxC: settings.airTempMaxC } : null;
+  const airTempWarning = stop.airTempC != null && band ? airTemperatureWarning(stop.airTempC, band) : null;
+  function saveAirTemp() {
+    if (!airTemp.trim()) return;
+    const celsius = typedAirTempToCelsius(airTemp, settings.unitSystem);
+    if (celsius === null || celsius < AIR_TEMP_MIN_C || celsius > AIR_TEMP_MAX_C) {
+      setAirTempError(`Enter the air temperature as a number from ${celsiusForDisplay(AIR_TEMP_MIN_C, settings.unitSystem)} to ${celsiusForDisplay(AIR_TEMP_MAX_C, settings.unitSystem)} ${unit}.`);
+      return;
+    }
+    setAirTempError(null);
+    if (celsius !== stop.airTempC) onAirTemp?.(celsius);
+  }
   const done = stop.status === "done";
+  const broodFoundInBroodlessCourse = stop.roundsPlanned === 1 && Object.values(stop.tallies).some((t) => t.broodSeen === true);
   const geo = `geo:${stop.lat},${stop.lng}?q=${stop.lat},${stop.lng}(${encodeURIComponent(stop.yardName)})`;
   return (
     <section aria-labelledby="stop-title">
@@ -81,6 +104,41 @@ export function StopView({
         )}
       </div>
 
+      {doseAboveLabel.length ? (
+        <div role="note" className="mt-3 rounded-xl border-2 border-ochre-500 bg-ochre-100 p-3">
+          <p className="text-lg font-bold">
+            The dose rate for {doseAboveLabel.map((d) => `${d.label.toLowerCase()} boxes (${d.grams} g)`).join(" and ")} is above the label maximum; the owner confirmed their
+            label allows it.
+          </p>
+        </div>
+      ) : null}
+
+      {onAirTemp ? (
+        <div className="mt-3 rounded-xl border-2 border-line bg-card p-3">
+          <label className="flex flex-col text-lg font-semibold">
+            Air temperature at the yard ({unit})
+            <span className="mt-1 flex gap-2">
+              <input
+                inputMode="decimal"
+                value={airTemp}
+                disabled={done}
+                onChange={(e) => setAirTemp(e.target.value)}
+                onBlur={saveAirTemp}
+                aria-invalid={airTempError ? true : undefined}
+                aria-describedby="air-temp-note"
+                className="min-h-11 w-full rounded-lg border-2 border-line px-3 text-xl"
+              />
+              <button type="button" disabled={done} onClick={saveAirTemp} className="min-h-11 rounded-lg bg-pine-700 px-4 font-bold text-white disabled:opacity-50">
+                Save
+              </button>
+            </span>
+          </label>
+          <p id="air-temp-note" className={airTempError || airTempWarning ? "mt-1 font-semibold text-alarm-700" : "mt-1 text-ink-soft"}>
+            {airTempError ?? airTempWarning ?? (stop.airTempC != null ? `Recorded: ${celsiusForDisplay(stop.airTempC, settings.unitSystem)} ${unit}` : "")}
+          </p>
+        </div>
+      ) : null}
+
       <h2 className="mt-4 text-xl font-bold">
         Colonies ({totals.tallied} of {totals.colonies} recorded)
       </h2>
@@ -104,6 +162,17 @@ export function StopView({
         <p className="text-lg">
           {totals.treated} treated · {totals.skipped} skipped · {formatDose(totals.grams, settings.unitSystem)} applied
         </p>
+        {done && (stop.roundsAdded ?? 0) > 0 ? (
+          <p className="mt-2 rounded-lg bg-ochre-100 px-3 py-2 font-bold" role="status" data-testid="rounds-added">
+            Brood found: {stop.roundsAdded} more {stop.roundsAdded === 1 ? "round" : "rounds"} added to this course
+            {stop.nextRoundDate ? `; round ${stop.roundNumber + 1} on ${formatServiceDate(stop.nextRoundDate)}` : ""}. The customer is told in the visit report.
+          </p>
+        ) : null}
+        {!done && broodFoundInBroodlessCourse ? (
+          <p className="mt-2 rounded-lg bg-ochre-100 px-3 py-2 font-semibold">
+            Brood seen in a course planned without brood: finishing adds the rounds of a course with brood and books the next round.
+          </p>
+        ) : null}
         {done ? null : (
           <>
             <label className="mt-2 flex flex-col font-semibold">
