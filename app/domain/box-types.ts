@@ -12,6 +12,10 @@ import { doseGramsForColony, gramsToCentigrams } from "./dose";
 export const BOX_TYPES = ["deep", "medium", "nuc"] as const;
 export type BoxType = (typeof BOX_TYPES)[number];
 
+/** Brood boxes a crew may record for one colony at the hive. */
+export const MIN_BROOD_BOXES = 1;
+export const MAX_BROOD_BOXES = 6;
+
 /** Names as the crew and customers read them. */
 export const BOX_TYPE_LABELS: Record<BoxType, string> = {
   deep: "Deep",

@@ -58,6 +58,10 @@ export function applicationCapProblem(colonyLabel: string, alreadyThisSeason: nu
   return `Colony ${colonyLabel} has had ${alreadyThisSeason} ${alreadyThisSeason === 1 ? "application" : "applications"} this season, the most the business allows per colony (${cap}). Skip it and tell the office.`;
 }
 
+/** Air temperatures a crew may record at all, °C (anything else is a typing slip). */
+export const AIR_TEMP_MIN_C = -50;
+export const AIR_TEMP_MAX_C = 60;
+
 /** The business's air temperature band for treating, in °C. */
 export interface AirTemperatureBand {
   airTempMinC: number;

@@ -1,5 +1,6 @@
 import { z } from "zod";
-import { BOX_TYPES } from "~/domain/box-types";
+import { BOX_TYPES, MAX_BROOD_BOXES, MIN_BROOD_BOXES } from "~/domain/box-types";
+import { AIR_TEMP_MAX_C, AIR_TEMP_MIN_C } from "~/domain/treatment-guards";
 import { MAX_SAMPLE_ML, MIN_SAMPLE_ML } from "~/domain/mites";
 import { roundTo } from "~/domain/units";
 
@@ -101,8 +102,7 @@ export const safetyPayloadSchema = z.object({ runId: idSchema, items: safetyItem
 export const supersPayloadSchema = z.object({ visitId: idSchema });
 
 /** The brood boxes a crew can record on a colony at the hive. */
-export const MIN_BROOD_BOXES = 1;
-export const MAX_BROOD_BOXES = 6;
+export { MAX_BROOD_BOXES, MIN_BROOD_BOXES };
 
 /** Not given (undefined, null or empty text) reads as undefined: no correction. */
 function emptyAsUndefined(value: unknown) {
@@ -179,8 +179,7 @@ export const finishPayloadSchema = z.object({
   notes: optionalText("the notes", 2000),
 });
 
-export const AIR_TEMP_MIN_C = -50;
-export const AIR_TEMP_MAX_C = 60;
+export { AIR_TEMP_MAX_C, AIR_TEMP_MIN_C };
 const AIR_TEMP_RANGE = `Enter the air temperature from ${AIR_TEMP_MIN_C} to ${AIR_TEMP_MAX_C} °C.`;
 
 /** The air temperature read at the yard, stored in °C to 0.1 (the phone converts °F before sending). */

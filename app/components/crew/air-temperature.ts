@@ -3,8 +3,9 @@ import { celsiusToFahrenheit, fahrenheitToCelsius, roundTo, type UnitSystem } fr
 // The air temperature the crew reads at the yard: stored in °C (to 0.1), typed in °C or °F
 // as the business's unit system says.
 
-// The range and the schema live with the other sync changes (app/forms/sync.ts).
-export { AIR_TEMP_MAX_C, AIR_TEMP_MIN_C } from "~/forms/sync";
+// The range lives with the other guards (a plain module: the crew's page runs under a policy
+// without eval, which zod would try); the schema is with the other sync changes (app/forms/sync.ts).
+export { AIR_TEMP_MAX_C, AIR_TEMP_MIN_C } from "~/domain/treatment-guards";
 
 /** What the crew typed, in their unit, as °C (to 0.1), or null when it is not a number. */
 export function typedAirTempToCelsius(text: string, system: UnitSystem): number | null {

@@ -1,6 +1,6 @@
 import { useState } from "react";
-import { BOX_TYPES, BOX_TYPE_LABELS, type BoxType } from "~/domain/box-types";
-import { MAX_BROOD_BOXES, MIN_BROOD_BOXES } from "~/forms/sync";
+// Plain modules only: the crew's page runs under a policy without eval, which zod's schemas would try.
+import { BOX_TYPES, BOX_TYPE_LABELS, MAX_BROOD_BOXES, MIN_BROOD_BOXES, type BoxType } from "~/domain/box-types";
 import { HALF_US_CUP_ML, MAX_SAMPLE_ML, MIN_SAMPLE_ML, assessMiteLoad, beesFromSampleVolume, formatMitesPer100 } from "~/domain/mites";
 import { formatDose, roundTo } from "~/domain/units";
 import { DoseTimer } from "./dose-timer";

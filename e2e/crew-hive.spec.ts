@@ -1,0 +1,93 @@
+import { DEMO, expect, queryTestDatabase, signIn, sinkEmailsTo, test } from "./fixtures";
+
+// What the crew finds at the hive: the air temperature (warned about outside the business's
+// band), a colony with more boxes than on record, and brood in a colony booked as broodless —
+// which adds the rounds with brood to the course and tells the customer.
+
+test.use({ viewport: { width: 390, height: 844 } });
+
+test("the crew records a cold morning, corrects a colony's boxes, finds brood in a broodless yard, and the course gets its rounds with brood", async ({ page }) => {
+  test.setTimeout(180_000);
+  const stops = await queryTestDatabase<{ visit_id: number; course_id: number; yard_id: number; yard_name: string; customer_email: string; colonies: number; status: string }>(
+    `select v.id as visit_id, v.course_id, y.id as yard_id, y.name as yard_name, c.email as customer_email, v.status,
+            (select count(*)::int from colonies col where col.yard_id = y.id and col.active) as colonies
+       from runs r join crew_members cm on cm.crew_id = r.crew_id join users u on u.id = cm.user_id
+       join stops s on s.run_id = r.id join visits v on v.id = s.visit_id join yards y on y.id = v.yard_id join customers c on c.id = y.customer_id
+      where u.email = $1 and r.status in ('published', 'in_progress') and r.service_date = (now() at time zone 'America/New_York')::date
+      order by s.position`,
+    [DEMO.crew],
+  );
+  const stop = stops.find((s) => s.status !== "done" && s.colonies >= 2);
+  expect(stop, "a stop still to treat on the demo crew's run today").toBeTruthy();
+  const number = stops.indexOf(stop!) + 1;
+  // Set-up: this yard was booked as broodless, a course of one round (as a customer who
+  // caged the queen would book it), so that finding brood has rounds to add.
+  await queryTestDatabase("update courses set rounds_planned = 1 where id = $1", [stop!.course_id]);
+  await queryTestDatabase("update yards set brood_status = 'broodless' where id = $1", [stop!.yard_id]);
+  await queryTestDatabase("update colonies set brood_status = 'broodless' where yard_id = $1", [stop!.yard_id]);
+  const [first] = await queryTestDatabase<{ label: string; brood_boxes: number }>(
+    "select label, brood_boxes from colonies where yard_id = $1 and active order by length(label), label limit 1",
+    [stop!.yard_id],
+  );
+  const [settings] = await queryTestDatabase<{ rounds: number; min_c: number }>(
+    "select coalesce((value->>'roundsWithBrood')::int, 3) as rounds, coalesce((value->>'airTempMinC')::float, 4) as min_c from settings where key = 'business'",
+  );
+
+  await signIn(page, DEMO.crew);
+  await expect(page).toHaveURL(/\/crew$/);
+  if (await page.getByRole("heading", { name: "Safety check before the first stop" }).isVisible()) {
+    for (const item of ["Respirator", "Sealed eye protection", "Acid-resistant gloves", "Vaporizer checked"]) await page.getByLabel(new RegExp(item)).check();
+    await page.getByRole("button", { name: "Start the run" }).click();
+  }
+  await page.getByRole("button", { name: new RegExp(`Stop ${number}: ${stop!.yard_name}`) }).click();
+
+  // A frosty morning: 28 °F (−2.2 °C) is below the band, a warning — never a block.
+  await page.getByLabel(/Air temperature at the yard/).fill("28");
+  await page.getByRole("button", { name: "Save", exact: true }).click();
+  await expect(page.getByText(/is below the business's band for treating/)).toBeVisible();
+  const supers = page.getByRole("button", { name: "Supers are off — start treating" });
+  if (await supers.isVisible()) await supers.click();
+
+  // The first colony has one brood box more than on record, and brood.
+  const colonies = page.getByRole("list", { name: "Colonies to tally" }).locator(":scope > li");
+  const row = colonies.first();
+  await row.getByRole("button", { name: new RegExp(`Correct boxes / brood for ${first.label}`) }).click();
+  await row.getByRole("button", { name: `One brood box more in ${first.label}` }).click();
+  await row.getByRole("group", { name: `Brood seen in ${first.label}` }).getByRole("button", { name: "Brood", exact: true }).click();
+  await page.screenshot({ path: "test-results/screenshots/crew-findings-390.png", fullPage: true });
+  for (let i = 0; i < stop!.colonies; i++) {
+    await colonies.nth(i).getByRole("button", { name: /^Treated/ }).click();
+    await expect(colonies.nth(i).getByText("Treated ✓")).toBeVisible();
+  }
+  // Dosed for what the crew found.
+  await expect(row.getByText(new RegExp(`^${first.label}\\s*${first.brood_boxes + 1} brood boxes`))).toBeVisible();
+  await page.getByRole("button", { name: "Finish visit" }).click();
+  await expect(page.getByRole("heading", { name: "Visit finished" })).toBeVisible();
+  await expect(page.getByTestId("sync-status")).toHaveText(/All work sent/, { timeout: 30_000 });
+  await expect(page.getByText(new RegExp(`Brood found: ${settings.rounds - 1} more rounds added to this course`))).toBeVisible();
+  await page.screenshot({ path: "test-results/screenshots/crew-brood-found-390.png", fullPage: true });
+
+  // On the server: the temperature, the corrected colony, the course's new rounds.
+  const [server] = await queryTestDatabase<{ air: string; boxes: number; brood: string; seen: boolean; planned: number; second: number }>(
+    `select (select air_temp_c::text from visits where id = $1) as air,
+            (select brood_boxes from colonies where yard_id = $2 and label = $3) as boxes,
+            (select brood_status from yards where id = $2) as brood,
+            (select brood_seen from tallies where visit_id = $1 and colony_label = $3) as seen,
+            (select rounds_planned from courses where id = $4) as planned,
+            (select count(*)::int from visits where course_id = $4 and round_number = 2) as second`,
+    [stop!.visit_id, stop!.yard_id, first.label, stop!.course_id],
+  );
+  expect(server).toEqual({ air: "-2.2", boxes: first.brood_boxes + 1, brood: "brood", seen: true, planned: settings.rounds, second: 1 });
+  expect(-2.2).toBeLessThan(settings.min_c);
+
+  // The customer is told in the visit report.
+  await expect
+    .poll(
+      async () =>
+        (await sinkEmailsTo(stop!.customer_email)).some(
+          (e) => e.subject.startsWith(`Visit report: ${stop!.yard_name}`) && /Brood found: rounds added[\s\S]*we added \d+ more rounds/.test(e.text ?? ""),
+        ),
+      { timeout: 30_000, message: "the visit report tells the customer about the rounds added" },
+    )
+    .toBe(true);
+});
