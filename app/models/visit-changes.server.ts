@@ -399,8 +399,9 @@ export const CUSTOMER_CANCEL_NOTE = "Cancelled by the customer in the portal.";
 /**
  * Cancels a visit and tells the customer.
  *
- * The dispatcher cancels the one visit (a first round takes its booking and course with it)
- * and must say why. A customer (`byCustomerId`) may cancel only their own scheduled visit,
+ * The dispatcher cancels the one visit and must say why; the course ends with it (its next
+ * round would only be made when this one is finished), and a first round takes its booking
+ * with it. A customer (`byCustomerId`) may cancel only their own scheduled visit,
  * not on a crew's published run, before the cut-off, with or without a reason; their
  * cancellation ends the course: the later rounds still to come are cancelled too (a course's
  * rounds only work in order, one after another), the course and its booking are cancelled,
@@ -430,8 +431,10 @@ export async function cancelVisit(
       await trx("visits").where({ id }).update({ status: "cancelled", notes: note, updated_at: trx.fn.now() });
     }
     const course = await trx("courses").where({ id: visit.course_id }).first("booking_id");
+    // The next round is made only when this one is finished, so a cancelled round ends its
+    // course whoever cancels it: left active, the yard would show a course that never goes on.
+    await trx("courses").where({ id: visit.course_id }).update({ status: "cancelled", updated_at: trx.fn.now() });
     if (visit.round_number === 1 || byCustomer) {
-      await trx("courses").where({ id: visit.course_id }).update({ status: "cancelled", updated_at: trx.fn.now() });
       if (course?.booking_id) {
         await trx("bookings").where({ id: course.booking_id }).update({ status: "cancelled", cancelled_at: trx.fn.now(), cancel_reason: note, updated_at: trx.fn.now() });
       }

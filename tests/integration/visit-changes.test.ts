@@ -110,4 +110,19 @@ describe("moving and cancelling visits", () => {
     expect(await db("email_log").where({ kind: "booking_cancelled" })).toHaveLength(1);
     await expect(cancelVisit(db, { visitId, reason: "again", actorUserId: actor })).rejects.toThrow(/has not started/);
   });
+
+  it("ends the course when the dispatcher cancels a later round, and keeps the booking and the rounds done", async () => {
+    // Round 1 done; round 2 made on the calendar as finishing round 1 makes it.
+    const first = (await db("visits").where({ id: visitId }).first())!;
+    await db("visits").where({ id: visitId }).update({ status: "done" });
+    const [second] = await db("visits")
+      .insert({ course_id: first.course_id, yard_id: first.yard_id, round_number: 2, service_date: addCalendarDays(day, 7), status: "scheduled", colonies_expected: 6 })
+      .returning("id");
+    await cancelVisit(db, { visitId: second.id, reason: "The customer sold the colonies", actorUserId: actor });
+    expect((await db("visits").where({ id: second.id }).first())?.status).toBe("cancelled");
+    expect((await db("visits").where({ id: visitId }).first())?.status).toBe("done");
+    // No round 3 will ever be made, so the course is over, not left active on the map.
+    expect((await db("courses").where({ id: first.course_id }).first())?.status).toBe("cancelled");
+    expect((await db("bookings").first())?.status).not.toBe("cancelled");
+  });
 });

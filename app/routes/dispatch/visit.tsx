@@ -191,6 +191,9 @@ export default function VisitPage({ loaderData, actionData }: Route.ComponentPro
               </Card>
               <Card title="Cancel the visit">
                 <Form method="post" noValidate className="flex flex-col gap-3">
+                  <p className="text-ink-soft">
+                    This ends the yard's course: no later round is booked after it. To treat later, move the visit instead, or the customer books again.
+                  </p>
                   <input type="hidden" name="intent" value="cancel" />
                   <div className="flex flex-col gap-1">
                     <label htmlFor="cancelReason" className="font-semibold">
