@@ -35,6 +35,8 @@ export const DEMO_SETTINGS = businessSettingsSchema.parse({
   businessName: DEMO_BUSINESS_NAME,
   businessAddress: "12 Kiln Lane, Ithaca, NY 14850",
   timeZone: DEMO_TIME_ZONE,
+  // Invented for the demo, in no real register: a business enters the number on its own label.
+  productRegistrationNumber: "DEMO-0000",
   pricePerColonyCents: 900,
   tripFeeCents: 3500,
   minimumPerVisitCents: 0,

@@ -120,12 +120,14 @@ export const businessSettingsSchema = z
       .min(1, { error: "Enter the product name as on its label." })
       .max(200, { error: "The product name must be at most 200 characters." })
       .default("Oxalic acid dihydrate"),
+    // Empty until the owner copies it from the label in their hands: a default would be some
+    // real product's number, printed on records of a product never used. Setup and the
+    // settings page ask for it (registrationNumberProblem); records show it as not entered.
     productRegistrationNumber: z
       .string({ error: "Enter the registration number." })
       .trim()
-      .min(1, { error: "Enter the registration number as on the label." })
       .max(100, { error: "The registration number must be at most 100 characters." })
-      .default("EPA Reg. No. 73291-2"),
+      .default(""),
 
     roundsWithBrood: wholeNumberField("rounds with brood", 1, 7).default(3),
     roundIntervalDays: wholeNumberField("the interval between rounds", 4, 10, "days").default(7),
@@ -232,6 +234,20 @@ export function doseRatesAboveLabel(settings: BusinessSettings): { boxType: (typ
 
 /** Every default setting. */
 export const defaultBusinessSettings: BusinessSettings = businessSettingsSchema.parse({});
+
+/**
+ * Why the owner's settings input cannot be saved without a registration number (null when it
+ * has one): setup and the settings page ask for it, though stored settings may lack it.
+ */
+export function registrationNumberProblem(input: { productRegistrationNumber?: unknown }): string | null {
+  const value = input.productRegistrationNumber;
+  return typeof value === "string" && value.trim() !== "" ? null : "Enter the registration number as on the product's label; application records print it.";
+}
+
+/** What application records and reports print for a registration number not entered yet. */
+export function registrationNumberShown(value: string): string {
+  return value.trim() === "" ? "not entered yet (owner: add it in Settings)" : value;
+}
 
 /** Field-by-field messages from a failed validation (first path segment → messages). */
 export type BusinessSettingsFieldErrors = Partial<Record<keyof BusinessSettings, string[]>>;

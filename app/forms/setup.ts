@@ -1,6 +1,6 @@
 import { roundDoseGrams } from "~/domain/dose";
 import { z } from "zod";
-import { businessSettingsSchema, defaultBusinessSettings, type BusinessSettings } from "~/domain/settings";
+import { businessSettingsSchema, defaultBusinessSettings, registrationNumberProblem, type BusinessSettings } from "~/domain/settings";
 import { newPasswordSchema } from "./account";
 import { fieldErrors, type FieldErrors } from "./field-errors";
 import { settingsFormDefaults, settingsInputFromForm } from "./settings-form";
@@ -98,8 +98,10 @@ function settingsInput(values: Record<string, string | string[]>): Record<string
 /** The posted setup form, checked: the input to save, or a message per field. */
 export function parseSetupForm(values: Record<string, string | string[]>): { ok: true; input: SetupInput } | { ok: false; errors: FieldErrors } {
   const account = setupAccountSchema.safeParse(Object.fromEntries(Object.entries(values).map(([k, v]) => [k, one(v)])));
-  const settings = businessSettingsSchema.safeParse(settingsInput(values));
-  if (account.success && settings.success) {
+  const input = settingsInput(values);
+  const settings = businessSettingsSchema.safeParse(input);
+  const missingRegistration = registrationNumberProblem(input);
+  if (account.success && settings.success && !missingRegistration) {
     const a = account.data;
     return {
       ok: true,
@@ -118,6 +120,7 @@ export function parseSetupForm(values: Record<string, string | string[]>): { ok:
     delete settingErrors.taxRateBasisPoints;
     for (const [field, message] of Object.entries(settingErrors)) errors[field] ??= message;
   }
+  if (missingRegistration) errors.productRegistrationNumber ??= missingRegistration;
   return { ok: false, errors };
 }
 

@@ -3,6 +3,7 @@ import { z } from "zod";
 import { PAGE_SIZES } from "~/components/data-table/query";
 import type { ApplicationRecordLine, RecordApplicator } from "~/domain/application-records-csv";
 import { centigramsToGrams } from "~/domain/dose";
+import { registrationNumberShown } from "~/domain/settings";
 import { fieldErrors, type FieldErrors } from "~/forms/field-errors";
 import { loadBusinessSettings } from "./settings.server";
 
@@ -376,7 +377,7 @@ export async function applicationRecords(db: Knex, filters: RecordFilters, pagin
       gramsApplied: centigramsToGrams(Number(r.centigrams)),
       // As recorded when the visit was finished; settings for visits finished before that was kept.
       productName: r.product_name ?? settings.productName,
-      productRegistrationNumber: r.product_registration_number ?? settings.productRegistrationNumber,
+      productRegistrationNumber: registrationNumberShown(r.product_registration_number ?? settings.productRegistrationNumber),
       applicators: applicators.get(r.visit_id) ?? [],
       weatherNote: r.weather_note?.trim() || null,
       airTempC: r.air_temp_c === null || r.air_temp_c === undefined ? null : Number(r.air_temp_c),
@@ -385,7 +386,7 @@ export async function applicationRecords(db: Knex, filters: RecordFilters, pagin
     filters,
     paging: applied,
     productName: settings.productName,
-    productRegistrationNumber: settings.productRegistrationNumber,
+    productRegistrationNumber: registrationNumberShown(settings.productRegistrationNumber),
     timeZone: tz,
   };
 }

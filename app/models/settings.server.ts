@@ -1,5 +1,5 @@
 import type { Knex } from "knex";
-import { businessSettingsSchema, defaultBusinessSettings, type BusinessSettings } from "~/domain/settings";
+import { businessSettingsSchema, defaultBusinessSettings, registrationNumberProblem, type BusinessSettings } from "~/domain/settings";
 import { fieldErrors, type FieldErrors } from "~/forms/field-errors";
 import { settingsInputFromForm } from "~/forms/settings-form";
 
@@ -48,11 +48,14 @@ export async function updateBusinessSettingsFromForm(
   values: Record<string, string | string[]>,
   actorUserId: number | string,
 ): Promise<{ ok: true; settings: BusinessSettings } | { ok: false; errors: FieldErrors }> {
-  const parsed = businessSettingsSchema.safeParse(settingsInputFromForm(values));
-  if (!parsed.success) {
-    const errors = fieldErrors(parsed.error);
+  const input = settingsInputFromForm(values);
+  const parsed = businessSettingsSchema.safeParse(input);
+  const missingRegistration = registrationNumberProblem(input);
+  if (!parsed.success || missingRegistration) {
+    const errors = parsed.success ? {} : fieldErrors(parsed.error);
     // The form shows the tax rate in percent under its own name.
     if (errors.taxRateBasisPoints) errors.taxRatePercent = "Enter a tax rate from 0 to 30 %.";
+    if (missingRegistration) errors.productRegistrationNumber ??= missingRegistration;
     return { ok: false, errors };
   }
   await saveBusinessSettings(db, parsed.data, actorUserId);

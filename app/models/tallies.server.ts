@@ -4,7 +4,7 @@ import { addCalendarDays } from "~/domain/courses";
 import { BOX_TYPE_LABELS, doseAssumption, doseGramsForColonyOfType, type BoxType } from "~/domain/box-types";
 import { doseGramsForSeason } from "~/domain/dose";
 import { assessMiteLoad, mitesPer100Bees, washSampleBees, type MiteLoadAssessment } from "~/domain/mites";
-import { doseRatesAboveLabel, type BusinessSettings } from "~/domain/settings";
+import { doseRatesAboveLabel, registrationNumberShown, type BusinessSettings } from "~/domain/settings";
 import { airTemperatureWarning, applicationCapProblem } from "~/domain/treatment-guards";
 import { roundTo } from "~/domain/units";
 import { visitReportEmail, type ReportColony, type ReportSkipReason } from "~/emails/visit-report";
@@ -814,7 +814,7 @@ export async function applicationRecordForVisit(db: Knex, visitId: number, setti
     site: APPLICATION_SITE,
     coloniesTreated: treated.length,
     productName: s.productName,
-    productRegistrationNumber: s.productRegistrationNumber,
+    productRegistrationNumber: registrationNumberShown(s.productRegistrationNumber),
     doseGramsPerBroodBox: s.doseGramsPerBroodBox,
     gramsApplied: doseGramsForSeason(treated.map((t) => Number(t.dose_grams))),
     applicatorName: row.applicator_name ?? null,
@@ -915,7 +915,7 @@ async function loadVisitReport(db: Knex, visitId: number, settings: BusinessSett
     skipped: colonies.length - treated.length,
     grams: doseGramsForSeason(treated.map((c) => c.doseGrams)),
     productName: settings.productName,
-    productRegistrationNumber: settings.productRegistrationNumber,
+    productRegistrationNumber: registrationNumberShown(settings.productRegistrationNumber),
     colonies,
     nextRound: next ? { visitId: Number(next.id), date: next.service_date, status: next.status, deferred: next.status === "deferred" } : null,
     courseComplete: visit.course_status === "complete",

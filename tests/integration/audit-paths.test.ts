@@ -463,7 +463,7 @@ describe("crews and working days", () => {
 
 describe("settings", () => {
   it("saving the settings: settings.update by the owner with the values before and after", async () => {
-    const form = (changes: Record<string, string>) => ({ ...settingsFormDefaults(defaultBusinessSettings), ...changes });
+    const form = (changes: Record<string, string>) => ({ ...settingsFormDefaults(defaultBusinessSettings), productRegistrationNumber: "TEST-REG-1", ...changes });
     let since = await mark();
     await updateBusinessSettingsFromForm(db, form({ pricePerColonyCents: "31.25" }), owner);
     const first = await entry(since, "settings.update");
@@ -480,7 +480,7 @@ describe("settings", () => {
 
   it("a refused save leaves no entry", async () => {
     const since = await mark();
-    const result = await updateBusinessSettingsFromForm(db, { ...settingsFormDefaults(defaultBusinessSettings), roundIntervalDays: "30" }, owner);
+    const result = await updateBusinessSettingsFromForm(db, { ...settingsFormDefaults(defaultBusinessSettings), productRegistrationNumber: "TEST-REG-1", roundIntervalDays: "30" }, owner);
     expect(result.ok).toBe(false);
     expect(await newActions(since)).toEqual([]);
   });

@@ -14,7 +14,7 @@ beforeEach(async () => {
   ownerId = owner.id;
 });
 
-const form = (changes: Record<string, string>) => ({ ...settingsFormDefaults(defaultBusinessSettings), ...changes });
+const form = (changes: Record<string, string>) => ({ ...settingsFormDefaults(defaultBusinessSettings), productRegistrationNumber: "TEST-REG-1", ...changes });
 
 describe("business settings", () => {
   it("uses the defaults until the owner saves", async () => {
@@ -68,5 +68,20 @@ describe("business settings", () => {
     expect(refused.ok).toBe(false);
     expect((await loadBusinessSettings(db)).sublimationSeconds).toBe(40);
     expect((await loadBusinessSettings(db)).setupMinutes).toBe(defaultBusinessSettings.setupMinutes);
+  });
+
+  it("refuses to save without the product's registration number, at that field, and saves nothing", async () => {
+    await updateBusinessSettingsFromForm(db, form({ pricePerColonyCents: "12" }), ownerId);
+    for (const empty of ["", "   "]) {
+      const refused = await updateBusinessSettingsFromForm(db, form({ productRegistrationNumber: empty, pricePerColonyCents: "14" }), ownerId);
+      expect(refused.ok).toBe(false);
+      if (!refused.ok) expect(Object.keys(refused.errors)).toEqual(["productRegistrationNumber"]);
+      if (!refused.ok) expect(refused.errors.productRegistrationNumber).toMatch(/Enter the registration number as on the product's label/);
+    }
+    // Another bad field is still reported beside it.
+    const both = await updateBusinessSettingsFromForm(db, form({ productRegistrationNumber: "", setupMinutes: "-5" }), ownerId);
+    if (both.ok) throw new Error("saved");
+    expect(Object.keys(both.errors).sort()).toEqual(["productRegistrationNumber", "setupMinutes"]);
+    expect((await loadBusinessSettings(db)).pricePerColonyCents).toBe(1200);
   });
 });

@@ -7,6 +7,8 @@ import {
   businessSettingsSchema,
   defaultBusinessSettings,
   doseRatesAboveLabel,
+  registrationNumberProblem,
+  registrationNumberShown,
   settingsFieldInfo,
   validateBusinessSettings,
 } from "~/domain/settings";
@@ -28,9 +30,15 @@ describe("default settings", () => {
     expect(doseRateProblems(d.doseGramsPerBroodBox, d.labelMaximumGramsPerBroodBox)).toEqual([]);
   });
 
-  it("names the product and registration as the business would enter them", () => {
+  it("names the active ingredient but leaves the registration number empty until the owner enters it", () => {
     expect(d.productName).toBe("Oxalic acid dihydrate");
-    expect(d.productRegistrationNumber).toBe("EPA Reg. No. 73291-2");
+    // No real product's number as a default: it would be printed on records of a product never used.
+    expect(d.productRegistrationNumber).toBe("");
+    expect(registrationNumberProblem(d)).toMatch(/Enter the registration number/);
+    expect(registrationNumberProblem({ productRegistrationNumber: "  " })).toMatch(/Enter the registration number/);
+    expect(registrationNumberProblem({ productRegistrationNumber: "REG-1" })).toBeNull();
+    expect(registrationNumberShown("")).toMatch(/not entered yet/);
+    expect(registrationNumberShown("REG-1")).toBe("REG-1");
   });
 
   it("plans 3 rounds a week apart", () => {

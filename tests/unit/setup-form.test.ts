@@ -41,3 +41,13 @@ describe("setup's dose rates for smaller boxes", () => {
     expect(parsed.errors).not.toHaveProperty("doseGramsPerMediumBox");
   });
 });
+
+describe("setup's product registration number", () => {
+  it("is required at its own field: no default stands in for the owner's label", () => {
+    const parsed = parseSetupForm({ ...VALID, productRegistrationNumber: " " });
+    expect(parsed.ok).toBe(false);
+    if (parsed.ok) return;
+    expect(Object.keys(parsed.errors)).toEqual(["productRegistrationNumber"]);
+    expect(parsed.errors.productRegistrationNumber).toMatch(/Enter the registration number/);
+  });
+});
