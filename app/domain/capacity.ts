@@ -1,5 +1,6 @@
 /**
- * How many colonies a service day can take, before its routes are planned.
+ * How much a service day can take, before its routes are planned: colonies, and grams of
+ * oxalic acid dihydrate.
  *
  * Bookings are taken weeks ahead, when the day's route does not exist yet, so the room
  * left on a day is estimated: each crew's working day is filled with "typical" yards
@@ -10,23 +11,36 @@
  * does not fit after all; the estimate errs on the side of what a crew can really do.
  *
  * A crew may have limits of its own per day: at most so many colonies, and at most so many
- * grams of oxalic acid dihydrate. Its estimate is capped at them; the gram limit is turned
- * into colonies with the business's dose per brood box at one brood box per colony (the
- * least dose a colony takes: a booking does not say how many boxes each colony has; the
- * planner, which knows them, holds the crew to its grams exactly).
+ * grams. Two figures hold them:
+ * - Colonies: its estimate is capped at its colony limit and at its gram limit over the
+ *   LEAST dose a colony can take (one box of the box type with the smallest rate), so the
+ *   colony figure stays an upper bound whatever the yards' boxes are.
+ * - Grams, exactly: the day's gram capacity is the working crews' gram limits added up; the
+ *   grams booked are each visit's colonies × its yard's dose per colony (box type's rate ×
+ *   brood boxes), so a yard of two medium boxes a colony takes what it really needs. When a
+ *   working crew has no gram limit, that crew can take whatever grams the others cannot, so
+ *   grams do not bind the day (null). A day no crew works has no gram bound either: its
+ *   room is whatever colony figure the dispatcher set.
+ * A booking must fit both.
  *
  * Which crews count on a date: active crews whose working weekdays include the date's
  * weekday and whose own day is not closed; none when the whole day is closed.
  */
-import { doseGramsForColony, gramsToCentigrams } from "./dose";
+import { doseGramsForColonyOfType, DOSE_RATE_FIELD, BOX_TYPES, type BoxDoseRates, type BoxType } from "./box-types";
+import { centigramsToGrams, doseGramsForColony, gramsToCentigrams } from "./dose";
 import { serviceMinutesForYard, type HiveCycle } from "./service-time";
 
 export interface CapacitySettings extends HiveCycle {
   setupMinutes: number;
   typicalColoniesPerYard: number;
   averageDriveMinutesBetweenYards: number;
-  /** Grams per brood box; needed only to turn a crew's gram limit into colonies. */
+  /**
+   * Grams per box of each type (deep, medium, nuc); needed only to turn a crew's gram limit
+   * into colonies, at the least of them (see leastColonyDoseGrams).
+   */
   doseGramsPerBroodBox?: number;
+  doseGramsPerMediumBox?: number;
+  doseGramsPerNucBox?: number;
 }
 
 export interface CrewForCapacity {
@@ -88,15 +102,26 @@ export function crewWorksOn(crew: CrewCalendar, isoDate: string, closures: { day
 // Capacity
 
 /**
- * The most colonies a crew's own limits allow in a day (Infinity without limits): its colony
- * limit, and its gram limit over the dose of a one-brood-box colony.
+ * The least dose a colony can take: one box of the type with the smallest rate among the
+ * rates given (undefined when none is). A gram limit over it is the most colonies the grams
+ * could ever cover, whatever boxes the yards have.
  */
-export function crewColonyLimit(crew: Pick<CrewForCapacity, "maxColoniesPerDay" | "maxDoseGramsPerDay">, doseGramsPerBroodBox: number | undefined): number {
+export function leastColonyDoseGrams(rates: Partial<BoxDoseRates>): number | undefined {
+  const given = BOX_TYPES.map((t) => rates[DOSE_RATE_FIELD[t]]).filter((r): r is number => r != null && Number.isFinite(r) && r > 0);
+  if (given.length === 0) return undefined;
+  return doseGramsForColony(1, Math.min(...given));
+}
+
+/**
+ * The most colonies a crew's own limits allow in a day (Infinity without limits): its colony
+ * limit, and its gram limit over `leastDoseGramsPerColony` (leastColonyDoseGrams).
+ */
+export function crewColonyLimit(crew: Pick<CrewForCapacity, "maxColoniesPerDay" | "maxDoseGramsPerDay">, leastDoseGramsPerColony: number | undefined): number {
   let limit = Infinity;
   if (crew.maxColoniesPerDay != null) limit = Math.max(0, Math.floor(crew.maxColoniesPerDay));
-  if (crew.maxDoseGramsPerDay != null && doseGramsPerBroodBox != null && doseGramsPerBroodBox > 0) {
+  if (crew.maxDoseGramsPerDay != null && leastDoseGramsPerColony != null && leastDoseGramsPerColony > 0) {
     // In whole centigrams, as doses are kept (dose.ts), so 10 g ÷ 1 g is 10, never 9.999….
-    const perColony = gramsToCentigrams(doseGramsForColony(1, doseGramsPerBroodBox));
+    const perColony = gramsToCentigrams(leastDoseGramsPerColony);
     if (perColony > 0) limit = Math.min(limit, Math.floor(gramsToCentigrams(crew.maxDoseGramsPerDay) / perColony));
   }
   return limit;
@@ -104,7 +129,7 @@ export function crewColonyLimit(crew: Pick<CrewForCapacity, "maxColoniesPerDay" 
 
 /** Colonies one crew can treat in its working day: the estimate above, capped at its own limits. */
 export function crewDayCapacityColonies(crew: CrewForCapacity, settings: CapacitySettings): number {
-  return Math.min(crewDayEstimate(crew, settings), crewColonyLimit(crew, settings.doseGramsPerBroodBox));
+  return Math.min(crewDayEstimate(crew, settings), crewColonyLimit(crew, leastColonyDoseGrams(settings)));
 }
 
 function crewDayEstimate(crew: CrewForCapacity, settings: CapacitySettings): number {
@@ -142,7 +167,8 @@ export function dayCapacityColonies(crews: readonly CrewForCapacity[], settings:
   if (day?.closed) return 0;
   if (day?.capacityOverride != null) {
     if (crews.length === 0) return day.capacityOverride;
-    const limits = crews.reduce((sum, crew) => sum + crewColonyLimit(crew, settings.doseGramsPerBroodBox), 0);
+    const least = leastColonyDoseGrams(settings);
+    const limits = crews.reduce((sum, crew) => sum + crewColonyLimit(crew, least), 0);
     return Math.min(day.capacityOverride, limits);
   }
   return crews.reduce((sum, crew) => sum + crewDayCapacityColonies(crew, settings), 0);
@@ -151,6 +177,58 @@ export function dayCapacityColonies(crews: readonly CrewForCapacity[], settings:
 /** Colonies that still fit on a day (never below 0). */
 export function coloniesStillFitting(capacity: number, booked: number): number {
   return Math.max(0, capacity - booked);
+}
+
+// ---------------------------------------------------------------------------------------
+// Grams
+
+/**
+ * Grams the whole day's crews can apply: their gram limits added up (to 0.01 g). Null when
+ * grams do not bind the day: a working crew without a gram limit can take what the others
+ * cannot, and a day no crew works has only the dispatcher's colony figure. A closed day: 0.
+ */
+export function dayCapacityGrams(crews: readonly Pick<CrewForCapacity, "maxDoseGramsPerDay">[], day?: Pick<ServiceDayState, "closed">): number | null {
+  if (day?.closed) return 0;
+  if (crews.length === 0) return null;
+  let centigrams = 0;
+  for (const crew of crews) {
+    if (crew.maxDoseGramsPerDay == null) return null;
+    centigrams += Math.max(0, gramsToCentigrams(crew.maxDoseGramsPerDay));
+  }
+  return centigramsToGrams(centigrams);
+}
+
+/** Grams that still fit on a day (never below 0); null when grams do not bind it. */
+export function gramsStillFitting(capacity: number | null, booked: number): number | null {
+  if (capacity == null) return null;
+  return centigramsToGrams(Math.max(0, gramsToCentigrams(capacity) - gramsToCentigrams(booked)));
+}
+
+/** Whether `adding` grams fit in `remaining` (null: no gram bound), compared in centigrams. */
+export function gramsFit(adding: number, remaining: number | null): boolean {
+  return remaining == null || gramsToCentigrams(adding) <= gramsToCentigrams(remaining);
+}
+
+/** What a yard's dose per colony depends on. */
+export interface YardDoseShape {
+  boxType: BoxType;
+  broodBoxesPerColony: number;
+}
+
+/** Grams one colony of the yard takes: its brood boxes × its box type's rate, to 0.01 g. */
+export function yardDoseGramsPerColony(yard: YardDoseShape, rates: BoxDoseRates): number {
+  return doseGramsForColonyOfType(yard.broodBoxesPerColony, yard.boxType, rates);
+}
+
+/** Grams for some colonies of a yard (colonies × its dose per colony), to 0.01 g. */
+export function gramsForColonies(colonies: number, yard: YardDoseShape, rates: BoxDoseRates): number {
+  return centigramsToGrams(colonies * gramsToCentigrams(yardDoseGramsPerColony(yard, rates)));
+}
+
+/** Grams a day's visits take: the sum of gramsForColonies over them, to 0.01 g. */
+export function gramsBookedFor(visits: readonly (YardDoseShape & { colonies: number })[], rates: BoxDoseRates): number {
+  const centigrams = visits.reduce((sum, v) => sum + v.colonies * gramsToCentigrams(yardDoseGramsPerColony(v, rates)), 0);
+  return centigramsToGrams(centigrams);
 }
 
 // ---------------------------------------------------------------------------------------

@@ -1,5 +1,8 @@
 import type { Knex } from "knex";
+import { isBoxType } from "~/domain/box-types";
+import { gramsForColonies } from "~/domain/capacity";
 import { addCalendarDays, calendarDaysBetween, roundsNeeded, type BroodStatus } from "~/domain/courses";
+import { centigramsToGrams, gramsToCentigrams } from "~/domain/dose";
 import { bookingConfirmationEmail } from "~/emails/booking";
 import type { BookingInput } from "~/forms/booking";
 import { serverEnv } from "~/services/env.server";
@@ -49,7 +52,7 @@ export async function bookYards(
       .whereNull("archived_at")
       .orderBy("id") // locked in id order, so two bookings of the same yards cannot deadlock
       .forUpdate()
-      .select("id", "name", "address", "colony_count", "brood_status");
+      .select("id", "name", "address", "colony_count", "brood_status", "box_type", "brood_boxes_per_colony");
     if (yards.length !== yardIds.length) throw new BookingRefused("One of the chosen yards is not in your account.", "yardIds");
     const empty = yards.find((y) => y.colony_count === 0);
     if (empty) throw new BookingRefused(`${empty.name} has no colonies to treat. Update the yard first.`, "yardIds");
@@ -64,8 +67,22 @@ export async function bookYards(
     }
 
     const colonies = yards.reduce((sum, y) => sum + y.colony_count, 0);
-    const room = await lockDayForColonies(trx, settings, input.serviceDate, colonies);
+    // The acid these yards take: each yard's colonies × its dose per colony (box type's rate × brood boxes).
+    const grams = centigramsToGrams(
+      yards.reduce(
+        (sum, y) =>
+          sum + gramsToCentigrams(gramsForColonies(y.colony_count, { boxType: isBoxType(y.box_type) ? y.box_type : "deep", broodBoxesPerColony: y.brood_boxes_per_colony }, settings)),
+        0,
+      ),
+    );
+    const room = await lockDayForColonies(trx, settings, input.serviceDate, colonies, grams);
     if (room.refusal === "closed") throw new BookingRefused("That day is not open for bookings. Choose another day.", "serviceDate");
+    if (room.refusal === "full" && room.gramsShort && colonies <= room.remaining) {
+      throw new BookingRefused(
+        `That day's crews can apply ${room.gramsRemaining} g more; ${yards.length === 1 ? "this yard needs" : "these yards need"} ${grams} g. Choose another day or fewer yards.`,
+        "serviceDate",
+      );
+    }
     if (room.refusal === "full") {
       throw new BookingRefused(
         room.remaining === 0

@@ -1,5 +1,18 @@
 import type { Knex } from "knex";
-import { coloniesStillFitting, crewWorksOn, dayCapacityColonies, type CrewForCapacity } from "~/domain/capacity";
+import { isBoxType } from "~/domain/box-types";
+import {
+  coloniesStillFitting,
+  crewWorksOn,
+  dayCapacityColonies,
+  dayCapacityGrams,
+  gramsBookedFor,
+  gramsFit,
+  gramsStillFitting,
+  yardDoseGramsPerColony,
+  type CrewForCapacity,
+  type YardDoseShape,
+} from "~/domain/capacity";
+import { centigramsToGrams, gramsToCentigrams } from "~/domain/dose";
 import { addCalendarDays, calendarDaysBetween } from "~/domain/courses";
 import { parseClockTime } from "~/domain/units";
 import type { BusinessSettings } from "~/domain/settings";
@@ -9,6 +22,12 @@ export type DayRoom = {
   capacity: number;
   booked: number;
   remaining: number;
+  /** Grams the working crews can apply together; null when grams do not bind the day (a crew without a gram limit, or no crew). */
+  gramsCapacity: number | null;
+  /** Grams the day's visits take: colonies × their yard's dose per colony. */
+  gramsBooked: number;
+  /** Grams that still fit (never below 0); null when grams do not bind the day. */
+  gramsRemaining: number | null;
   /** Closed by the dispatcher, or no crew works that day (and no capacity was set for it). */
   closed: boolean;
   /** Crews working that day (active, on one of their weekdays, their own day not closed). */
@@ -77,32 +96,73 @@ function dayRoom(
   crews: readonly CrewForCapacity[],
   settings: BusinessSettings,
   day: { capacity_colonies: number | null; closed: boolean } | undefined,
-  booked: number,
+  booked: { colonies: number; grams: number },
 ): DayRoom {
   const capacity = dayCapacityColonies(crews, settings, day ? { capacityOverride: day.capacity_colonies, closed: day.closed } : undefined);
   const closed = Boolean(day?.closed) || (crews.length === 0 && day?.capacity_colonies == null);
-  return { date, capacity, booked, remaining: coloniesStillFitting(capacity, booked), closed, crewsWorking: day?.closed ? 0 : crews.length };
+  const gramsCapacity = dayCapacityGrams(crews, day);
+  return {
+    date,
+    capacity,
+    booked: booked.colonies,
+    remaining: coloniesStillFitting(capacity, booked.colonies),
+    gramsCapacity,
+    gramsBooked: booked.grams,
+    gramsRemaining: gramsStillFitting(gramsCapacity, booked.grams),
+    closed,
+    crewsWorking: day?.closed ? 0 : crews.length,
+  };
 }
 
-/** Room per day from `from` to `to` (inclusive): capacity, colonies booked, colonies still fitting. */
+type BookedShape = YardDoseShape & { serviceDate: string; colonies: number };
+
+/**
+ * Colonies booked from `from` to `to`, per day and yard shape (box type, brood boxes per
+ * colony): visits taking room, each at its yard's current boxes, which the crew doses.
+ */
+async function bookedShapes(db: Knex, from: string, to: string): Promise<BookedShape[]> {
+  const rows = (await db("visits")
+    .join("yards", "yards.id", "visits.yard_id")
+    .whereBetween("visits.service_date", [from, to])
+    .whereIn("visits.status", STATUSES_TAKING_ROOM)
+    .groupBy("visits.service_date", "yards.box_type", "yards.brood_boxes_per_colony")
+    .select("visits.service_date", "yards.box_type", "yards.brood_boxes_per_colony", db.raw("sum(visits.colonies_expected)::int as colonies"))) as unknown as {
+    service_date: string;
+    box_type: string;
+    brood_boxes_per_colony: number;
+    colonies: number;
+  }[];
+  return rows.map((r) => ({
+    serviceDate: r.service_date,
+    // The column is checked to one of the types; deep (the label's own rate) if ever not.
+    boxType: isBoxType(r.box_type) ? r.box_type : "deep",
+    broodBoxesPerColony: Number(r.brood_boxes_per_colony),
+    colonies: Number(r.colonies),
+  }));
+}
+
+function bookedByDay(shapes: readonly BookedShape[], settings: BusinessSettings): Map<string, { colonies: number; grams: number }> {
+  const byDate = new Map<string, BookedShape[]>();
+  for (const shape of shapes) byDate.set(shape.serviceDate, [...(byDate.get(shape.serviceDate) ?? []), shape]);
+  return new Map(
+    [...byDate].map(([date, list]) => [date, { colonies: list.reduce((sum, s) => sum + s.colonies, 0), grams: gramsBookedFor(list, settings) }]),
+  );
+}
+
+/** Room per day from `from` to `to` (inclusive): capacity, colonies booked, colonies still fitting, and the same in grams. */
 export async function roomBetween(db: Knex, settings: BusinessSettings, from: string, to: string): Promise<DayRoom[]> {
   // One query after the other: `db` may be a transaction (working-days.server.ts).
   const crews = await activeCrews(db);
   const closures = await closedCrewDays(db, from, to);
   const days = await db("service_days").whereBetween("service_date", [from, to]).select("service_date", "capacity_colonies", "closed");
-  const booked = await db("visits")
-    .whereBetween("service_date", [from, to])
-    .whereIn("status", STATUSES_TAKING_ROOM)
-    .groupBy("service_date")
-    .select("service_date", db.raw("sum(colonies_expected)::int as colonies"));
+  const booked = bookedByDay(await bookedShapes(db, from, to), settings);
   const dayByDate = new Map(days.map((d) => [d.service_date, d]));
-  const bookedByDate = new Map((booked as unknown as { service_date: string; colonies: number }[]).map((b) => [b.service_date, b.colonies]));
   const out: DayRoom[] = [];
   const count = calendarDaysBetween(from, to);
   for (let i = 0; i <= count; i++) {
     const date = addCalendarDays(from, i);
     const day = dayByDate.get(date);
-    out.push(dayRoom(date, working(crews, date, false, closures.get(date)), settings, day, bookedByDate.get(date) ?? 0));
+    out.push(dayRoom(date, working(crews, date, false, closures.get(date)), settings, day, booked.get(date) ?? { colonies: 0, grams: 0 }));
   }
   return out;
 }
@@ -114,49 +174,78 @@ export async function lockDayRoom(trx: Knex.Transaction, settings: BusinessSetti
   const day = await trx("service_days").where({ service_date: date }).forUpdate().first();
   // Read after the lock: a crew-day closure takes this same lock, so what is read here holds.
   const crews = await activeCrewsForCapacity(trx, date);
-  const row = await trx("visits")
-    .where({ service_date: date })
-    .whereIn("status", STATUSES_TAKING_ROOM)
-    .first(trx.raw("coalesce(sum(colonies_expected), 0)::int as colonies"));
-  return dayRoom(date, crews, settings, day, (row as unknown as { colonies: number }).colonies);
+  const booked = bookedByDay(await bookedShapes(trx, date, date), settings);
+  return dayRoom(date, crews, settings, day, booked.get(date) ?? { colonies: 0, grams: 0 });
 }
 
-/** Why a day cannot take more colonies: it is closed (or has no capacity at all), or it is full. */
+/** Why a day cannot take more colonies: it is closed (or has no capacity at all), or it is full (in colonies or in grams). */
 export type DayRefusal = "closed" | "full";
 
-/** A day's room seen under its lock, and whether the colonies asked for fit (refusal null). */
-export type DayRoomCheck = DayRoom & { adding: number; refusal: DayRefusal | null };
+/**
+ * A day's room seen under its lock, and whether the colonies and grams asked for fit
+ * (refusal null). `gramsShort`: the grams are what does not fit (the colonies may not either).
+ */
+export type DayRoomCheck = DayRoom & { adding: number; addingGrams: number; refusal: DayRefusal | null; gramsShort: boolean };
 
-/** The capacity rule for adding colonies to a day: it must be open and have that much room left. */
-function refusalFor(room: DayRoom, adding: number): DayRefusal | null {
-  if (room.closed || room.capacity === 0) return "closed";
-  return adding > room.remaining ? "full" : null;
+/** The capacity rule for adding to a day: it must be open and have that many colonies and grams left. */
+function refusalFor(room: DayRoom, adding: number, addingGrams: number): { refusal: DayRefusal | null; gramsShort: boolean } {
+  if (room.closed || room.capacity === 0) return { refusal: "closed", gramsShort: false };
+  const gramsShort = addingGrams > 0 && !gramsFit(addingGrams, room.gramsRemaining);
+  return { refusal: adding > room.remaining || gramsShort ? "full" : null, gramsShort };
 }
 
 /**
- * Locks a day (see lockDayRoom) and checks whether `adding` more colonies fit on it. Every
- * write that puts colonies on a day goes through here, so the rule lives in one place and
- * the check sees the day as no concurrent write can change it before commit.
+ * Locks a day (see lockDayRoom) and checks whether `adding` more colonies taking
+ * `addingGrams` more grams (their yards' doses; 0 when not given) fit on it. Every write that
+ * puts colonies on a day goes through here, so the rule lives in one place and the check
+ * sees the day as no concurrent write can change it before commit.
  */
-export async function lockDayForColonies(trx: Knex.Transaction, settings: BusinessSettings, date: string, adding: number): Promise<DayRoomCheck> {
+export async function lockDayForColonies(
+  trx: Knex.Transaction,
+  settings: BusinessSettings,
+  date: string,
+  adding: number,
+  addingGrams = 0,
+): Promise<DayRoomCheck> {
   const room = await lockDayRoom(trx, settings, date);
-  return { ...room, adding, refusal: refusalFor(room, adding) };
+  return { ...room, adding, addingGrams, ...refusalFor(room, adding, addingGrams) };
 }
 
 /**
  * lockDayForColonies for several days, locked in date order (every writer that holds more
- * than one day takes them in that order, so two of them cannot deadlock). Colonies asked for
- * on the same date are added up. Returns one check per date, in date order.
+ * than one day takes them in that order, so two of them cannot deadlock). Colonies and grams
+ * asked for on the same date are added up. Returns one check per date, in date order.
  */
 export async function lockDaysForColonies(
   trx: Knex.Transaction,
   settings: BusinessSettings,
-  needs: readonly { date: string; adding: number }[],
+  needs: readonly { date: string; adding: number; addingGrams?: number }[],
 ): Promise<DayRoomCheck[]> {
-  const byDate = new Map<string, number>();
-  for (const need of needs) byDate.set(need.date, (byDate.get(need.date) ?? 0) + need.adding);
+  const byDate = new Map<string, { adding: number; centigrams: number }>();
+  for (const need of needs) {
+    const sum = byDate.get(need.date) ?? { adding: 0, centigrams: 0 };
+    byDate.set(need.date, { adding: sum.adding + need.adding, centigrams: sum.centigrams + gramsToCentigrams(need.addingGrams ?? 0) });
+  }
   const checks: DayRoomCheck[] = [];
   // ISO dates sort as strings.
-  for (const date of [...byDate.keys()].sort()) checks.push(await lockDayForColonies(trx, settings, date, byDate.get(date)!));
+  for (const date of [...byDate.keys()].sort()) {
+    const need = byDate.get(date)!;
+    checks.push(await lockDayForColonies(trx, settings, date, need.adding, centigramsToGrams(need.centigrams)));
+  }
   return checks;
+}
+
+/** The dose per colony of each yard (box type's rate × brood boxes per colony), by yard id. */
+export async function yardDosesPerColony(db: Knex, settings: BusinessSettings, yardIds: readonly number[]): Promise<Map<number, number>> {
+  if (yardIds.length === 0) return new Map();
+  const rows = await db("yards").whereIn("id", [...new Set(yardIds)]).select("id", "box_type", "brood_boxes_per_colony");
+  return new Map(rows.map((r) => [Number(r.id), yardDoseGramsPerColony({ boxType: isBoxType(r.box_type) ? r.box_type : "deep", broodBoxesPerColony: Number(r.brood_boxes_per_colony) }, settings)]));
+}
+
+/** The dose per colony of each visit's yard (see yardDosesPerColony), by visit id. */
+export async function visitDosesPerColony(db: Knex, settings: BusinessSettings, visitIds: readonly number[]): Promise<Map<number, number>> {
+  if (visitIds.length === 0) return new Map();
+  const rows = await db("visits").whereIn("id", [...new Set(visitIds)]).select("id", "yard_id");
+  const doses = await yardDosesPerColony(db, settings, rows.map((r) => Number(r.yard_id)));
+  return new Map(rows.map((r) => [Number(r.id), doses.get(Number(r.yard_id)) ?? 0]));
 }

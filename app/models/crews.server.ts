@@ -1,5 +1,5 @@
 import type { Knex } from "knex";
-import { crewColonyLimit, crewDayCapacityColonies, weekdaysLabel } from "~/domain/capacity";
+import { crewColonyLimit, crewDayCapacityColonies, leastColonyDoseGrams, weekdaysLabel } from "~/domain/capacity";
 import { addCalendarDays } from "~/domain/courses";
 import { parseClockTime } from "~/domain/units";
 import type { CrewFormValues, CrewInput } from "~/forms/crew";
@@ -57,7 +57,7 @@ function summaryOf(row: CrewRow, members: CrewMember[], settings: Awaited<Return
   const workMinutes = parseClockTime(hhmm(row.work_end)) - parseClockTime(hhmm(row.work_start));
   const maxDose = row.max_dose_grams_per_day == null ? null : Number(row.max_dose_grams_per_day);
   const crew = { workMinutes, vaporizers: row.vaporizers, maxColoniesPerDay: row.max_colonies_per_day, maxDoseGramsPerDay: maxDose };
-  const limit = crewColonyLimit(crew, settings.doseGramsPerBroodBox);
+  const limit = crewColonyLimit(crew, leastColonyDoseGrams(settings));
   const weekdays = (row.working_weekdays ?? []).map(Number);
   return {
     id: Number(row.id),

@@ -1,7 +1,8 @@
 import type { Knex } from "knex";
 import { formatClock } from "~/components/format";
 import { addCalendarDays } from "~/domain/courses";
-import { BOX_TYPE_LABELS, doseAssumption, doseGramsForColonyOfType, type BoxType } from "~/domain/box-types";
+import { BOX_TYPE_LABELS, doseAssumption, doseGramsForColonyOfType, isBoxType, type BoxType } from "~/domain/box-types";
+import { gramsForColonies } from "~/domain/capacity";
 import { doseGramsForSeason } from "~/domain/dose";
 import { assessMiteLoad, mitesPer100Bees, washSampleBees, type MiteLoadAssessment } from "~/domain/mites";
 import { doseRatesAboveLabel, registrationNumberShown, type BusinessSettings } from "~/domain/settings";
@@ -25,7 +26,7 @@ import {
 import { dateInZone } from "~/services/clock.server";
 import { serverEnv } from "~/services/env.server";
 import { requestEmailDelivery } from "~/services/jobs.server";
-import { lockDayRoom } from "./capacity.server";
+import { lockDayForColonies } from "./capacity.server";
 import { queueEmail } from "./emails.server";
 import { requestInvoiceEmail } from "./invoice-mail.server";
 import { createInvoiceForVisit } from "./invoices-create.server";
@@ -1084,15 +1085,18 @@ async function scheduleNextRound(
     return { nextVisitId: Number(existing.id), nextVisitDate: existing.service_date, nextVisitStatus: status, deferReason: existing.defer_reason, courseComplete: false };
   }
 
-  const yard = await trx("yards").where({ id: access.yardId }).first("colony_count");
+  const yard = await trx("yards").where({ id: access.yardId }).first("colony_count", "box_type", "brood_boxes_per_colony");
   const colonies = yard?.colony_count ?? 0;
   const interval = course.interval_days >= 1 ? course.interval_days : settings.roundIntervalDays;
   const date = addCalendarDays(access.serviceDate, interval);
-  const room = await lockDayRoom(trx, settings, date);
+  const grams = yard ? gramsForColonies(colonies, { boxType: isBoxType(yard.box_type) ? yard.box_type : "deep", broodBoxesPerColony: Number(yard.brood_boxes_per_colony) }, settings) : 0;
+  const room = await lockDayForColonies(trx, settings, date, colonies, grams);
   let deferReason: string | null = null;
-  if (room.closed || room.capacity === 0) {
+  if (room.refusal === "closed") {
     deferReason = `Round ${roundNumber} is due on ${date}, but that day is closed. Move it to a day with room.`;
-  } else if (colonies > room.remaining) {
+  } else if (room.gramsShort) {
+    deferReason = `Round ${roundNumber} is due on ${date}, but the crews that day can apply ${room.gramsRemaining} g more and this yard needs ${room.addingGrams} g. Move it to a day with room.`;
+  } else if (room.refusal === "full") {
     deferReason = `Round ${roundNumber} is due on ${date}, but that day has room for ${room.remaining} more ${room.remaining === 1 ? "colony" : "colonies"} and this yard has ${colonies}. Move it to a day with room.`;
   }
   const status = deferReason ? "deferred" : "scheduled";

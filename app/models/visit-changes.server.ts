@@ -11,6 +11,7 @@ import {
   type MoveWindow,
 } from "~/domain/booking-cutoff";
 import { addCalendarDays, calendarDaysBetween } from "~/domain/courses";
+import { centigramsToGrams, gramsToCentigrams } from "~/domain/dose";
 import { CAPPED_BROOD_DAYS, projectedCourseSpanDays } from "~/domain/treatment-guards";
 import type { BusinessSettings } from "~/domain/settings";
 import { bookingCancelledEmail, visitRescheduledEmail } from "~/emails/booking";
@@ -20,7 +21,7 @@ import { serverEnv } from "~/services/env.server";
 import { requestEmailDelivery } from "~/services/jobs.server";
 import { mailFrom } from "~/services/mail.server";
 import { BOOKING_HORIZON_DAYS } from "./bookings.server";
-import { lockDaysForColonies } from "./capacity.server";
+import { lockDaysForColonies, visitDosesPerColony } from "./capacity.server";
 import { queueEmail } from "./emails.server";
 import { senderName } from "./invoice-documents.server";
 import { businessIdentity, loadBusinessSettings } from "./settings.server";
@@ -241,20 +242,35 @@ type Move = { visitId: number; roundNumber: number; fromDate: string; toDate: st
  * own interval does not collide with itself.
  */
 async function lockRoomForMoves(trx: Knex.Transaction, settings: BusinessSettings, moves: readonly Move[]) {
-  const adding = new Map<string, number>();
-  for (const move of moves) adding.set(move.toDate, (adding.get(move.toDate) ?? 0) + move.colonies);
-  for (const move of moves) if (move.takesRoom && adding.has(move.fromDate)) adding.set(move.fromDate, adding.get(move.fromDate)! - move.colonies);
-  const checks = await lockDaysForColonies(trx, settings, [...adding].map(([date, colonies]) => ({ date, adding: colonies })));
+  // Grams too, in centigrams: each move's colonies × its yard's dose per colony.
+  const doses = await visitDosesPerColony(trx, settings, moves.map((m) => m.visitId));
+  const cg = (move: Move) => move.colonies * gramsToCentigrams(doses.get(move.visitId) ?? 0);
+  const adding = new Map<string, { colonies: number; centigrams: number }>();
+  const add = (date: string, colonies: number, centigrams: number) => {
+    const sum = adding.get(date) ?? { colonies: 0, centigrams: 0 };
+    adding.set(date, { colonies: sum.colonies + colonies, centigrams: sum.centigrams + centigrams });
+  };
+  for (const move of moves) add(move.toDate, move.colonies, cg(move));
+  for (const move of moves) if (move.takesRoom && adding.has(move.fromDate)) add(move.fromDate, -move.colonies, -cg(move));
+  const checks = await lockDaysForColonies(trx, settings, [...adding].map(([date, n]) => ({ date, adding: n.colonies, addingGrams: centigramsToGrams(n.centigrams) })));
   const main = moves[0];
   for (const check of checks) {
-    if (check.refusal === null || (check.refusal === "full" && check.adding <= 0)) continue;
+    if (check.refusal === null || (check.refusal === "full" && check.adding <= 0 && check.addingGrams <= 0)) continue;
     const move = moves.find((m) => m.toDate === check.date)!;
+    const moveGrams = centigramsToGrams(cg(move));
+    const onlyGrams = check.gramsShort && check.adding <= check.remaining;
     if (move === main) {
       if (check.refusal === "closed") throw new VisitChangeRefused("That day is closed for bookings. Choose another day.", "toDate");
+      if (onlyGrams) throw new VisitChangeRefused(`That day's crews can apply ${check.gramsRemaining} g more; this visit needs ${moveGrams} g. Choose another day.`, "toDate");
       throw new VisitChangeRefused(`That day has room for ${check.remaining} more colonies; this visit has ${main.colonies}. Choose another day.`, "toDate");
     }
     const day = formatServiceDate(check.date);
-    const why = check.refusal === "closed" ? "that day is closed for bookings" : `that day has room for ${check.remaining} more colonies and the round has ${move.colonies}`;
+    const why =
+      check.refusal === "closed"
+        ? "that day is closed for bookings"
+        : onlyGrams
+          ? `that day's crews can apply ${check.gramsRemaining} g more and the round needs ${moveGrams} g`
+          : `that day has room for ${check.remaining} more colonies and the round has ${move.colonies}`;
     throw new VisitChangeRefused(`Round ${move.roundNumber} would move with this visit to ${day}, but ${why}. Choose another day.`, "toDate");
   }
 }

@@ -1,4 +1,7 @@
 import type { Knex } from "knex";
+import { yardDoseGramsPerColony, type YardDoseShape } from "~/domain/capacity";
+import { centigramsToGrams, gramsToCentigrams } from "~/domain/dose";
+import type { BusinessSettings } from "~/domain/settings";
 import type { YardInput } from "~/forms/yard";
 import { lockDaysForColonies } from "./capacity.server";
 import { loadBusinessSettings } from "./settings.server";
@@ -10,9 +13,17 @@ export type CrowdedDay = {
   closed: boolean;
   /** Colonies the day can still take. */
   remaining: number;
-  /** Colonies the new count would add to the day. */
+  /** Colonies the new count would add to the day (0 or less when only the dose grows). */
   adding: number;
-  /** The largest colony count this yard's visits on that day still fit. */
+  /** Whether the colonies are what does not fit. */
+  coloniesShort: boolean;
+  /** Grams the day's crews can still apply (null: grams do not bind the day; 0 on a closed day). */
+  gramsRemaining: number | null;
+  /** Grams the new count and boxes would add to the day. */
+  addingGrams: number;
+  /** Whether the grams are what does not fit. */
+  gramsShort: boolean;
+  /** The largest colony count this yard's visits on that day still fit (in colonies and grams, at the new boxes). */
   mostColonies: number;
 };
 
@@ -21,71 +32,108 @@ export type EditAudience = "customer" | "dispatcher";
 
 const colonies = (n: number) => `${n} ${n === 1 ? "colony" : "colonies"}`;
 
-/** The message at the colony-count field when the new count does not fit on a booked day. */
-export function colonyCountRefusal(days: readonly CrowdedDay[], colonyCount: number, audience: EditAudience): string {
-  const dayNotes = days.map((d) => `${d.date} (${d.closed ? "closed" : `room for ${d.remaining} more, ${d.adding} needed`})`).join(", ");
+function dayNote(d: CrowdedDay): string {
+  if (d.closed) return `${d.date} (closed)`;
+  const notes: string[] = [];
+  if (d.coloniesShort || !d.gramsShort) notes.push(`room for ${d.remaining} more, ${d.adding} needed`);
+  if (d.gramsShort) notes.push(`its crews can apply ${d.gramsRemaining} g more; this yard needs ${d.addingGrams} g more`);
+  return `${d.date} (${notes.join("; ")})`;
+}
+
+/** The message at the yard field whose change does not fit on a booked day (colony count, box type or brood boxes). */
+export function colonyCountRefusal(days: readonly CrowdedDay[], colonyCount: number, audience: EditAudience, dosePerColony?: number): string {
+  const dayNotes = days.map(dayNote).join(", ");
   const most = Math.min(...days.map((d) => d.mostColonies));
   const one = days.length === 1;
+  const what = days.some((d) => d.gramsShort) && dosePerColony != null ? `${colonies(colonyCount)} at ${dosePerColony} g each` : colonies(colonyCount);
   if (audience === "dispatcher") {
     const pages = days.flatMap((d) => d.visitIds.map((id) => `/dispatch/visits/${id}`)).join(", ");
     return (
-      `Nothing was saved: ${colonies(colonyCount)} do not fit on the booked ${one ? "day" : "days"} ${dayNotes}. ` +
+      `Nothing was saved: ${what} do not fit on the booked ${one ? "day" : "days"} ${dayNotes}. ` +
       `Move the ${one ? "visit" : "visits"} to a day with room (${pages}), or keep the count at ${most} or fewer.`
     );
   }
   return (
-    `Nothing was saved: ${colonies(colonyCount)} do not fit on the ${one ? "day" : "days"} of your booked ${one ? "visit" : "visits"}, ${dayNotes}. ` +
+    `Nothing was saved: ${what} do not fit on the ${one ? "day" : "days"} of your booked ${one ? "visit" : "visits"}, ${dayNotes}. ` +
     `Book fewer colonies (at most ${most} for now), or ask us to move the ${one ? "visit" : "visits"} to a day with room.`
   );
 }
 
-/** An edit refused because a booked day has no room for the bigger colony count; nothing was written. */
+/** The yard form fields whose change can take more room on a booked day. */
+export type RoomField = "colonyCount" | "boxType" | "broodBoxesPerColony";
+
+/** An edit refused because a booked day has no room for the bigger colony count or dose; nothing was written. */
 export class YardEditRefused extends Error {
-  readonly field = "colonyCount" as const;
   constructor(
     readonly days: CrowdedDay[],
     readonly colonyCount: number,
+    /** The field the refusal belongs to: the colony count, or the boxes when only they grew the dose. */
+    readonly field: RoomField = "colonyCount",
+    /** Grams per colony at the new boxes. */
+    readonly dosePerColony?: number,
   ) {
-    super(colonyCountRefusal(days, colonyCount, "customer"));
+    super(colonyCountRefusal(days, colonyCount, "customer", dosePerColony));
   }
 
   messageFor(audience: EditAudience): string {
-    return colonyCountRefusal(this.days, this.colonyCount, audience);
+    return colonyCountRefusal(this.days, this.colonyCount, audience, this.dosePerColony);
   }
 }
 
 type BookedVisit = { id: number; service_date: string; colonies_expected: number };
 
 /**
- * Locks the days where the new count makes a booked visit bigger, in date order, and throws
- * YardEditRefused when one of them has no room for it (the same lock and rule as a booking,
- * so a concurrent booking and this edit cannot both take a day's last room). Visits that keep
- * or lose colonies need no room and no lock.
+ * Locks the days where the new count or boxes make a booked visit bigger (in colonies, or in
+ * grams: colonies × the yard's dose per colony), in date order, and throws YardEditRefused
+ * when one of them has no room for it (the same lock and rule as a booking, so a concurrent
+ * booking and this edit cannot both take a day's last room). Visits that keep or lose
+ * colonies and grams need no room and no lock.
  */
-async function holdRoomForBiggerVisits(trx: Knex.Transaction, visits: readonly BookedVisit[], colonyCount: number) {
-  const growing = visits.filter((v) => colonyCount > v.colonies_expected);
+async function holdRoomForBiggerVisits(trx: Knex.Transaction, visits: readonly BookedVisit[], before: YardDoseShape, input: YardInput) {
+  const colonyCount = input.colonyCount;
+  const settings: BusinessSettings = await loadBusinessSettings(trx);
+  const oldDose = gramsToCentigrams(yardDoseGramsPerColony(before, settings));
+  const newDose = gramsToCentigrams(yardDoseGramsPerColony({ boxType: input.boxType, broodBoxesPerColony: input.broodBoxesPerColony }, settings));
+  // Centigrams each visit adds: the day's booked grams read under the lock still count the old boxes.
+  const gramsAdded = (v: BookedVisit) => colonyCount * newDose - v.colonies_expected * oldDose;
+  const growing = visits.filter((v) => colonyCount > v.colonies_expected || gramsAdded(v) > 0);
   if (growing.length === 0) return;
-  const settings = await loadBusinessSettings(trx);
   const checks = await lockDaysForColonies(
     trx,
     settings,
-    growing.map((v) => ({ date: v.service_date, adding: colonyCount - v.colonies_expected })),
+    growing.map((v) => ({ date: v.service_date, adding: colonyCount - v.colonies_expected, addingGrams: centigramsToGrams(gramsAdded(v)) })),
   );
   const crowded: CrowdedDay[] = checks
     .filter((check) => check.refusal !== null)
     .map((check) => {
       const onDay = growing.filter((v) => v.service_date === check.date);
       const current = onDay.reduce((sum, v) => sum + v.colonies_expected, 0);
+      let most = Math.floor((current + check.remaining) / onDay.length);
+      if (check.gramsRemaining != null && newDose > 0) {
+        const gramsFree = onDay.reduce((sum, v) => sum + v.colonies_expected * oldDose, 0) + gramsToCentigrams(check.gramsRemaining);
+        most = Math.min(most, Math.floor(gramsFree / (onDay.length * newDose)));
+      }
       return {
         date: check.date,
         visitIds: onDay.map((v) => v.id),
         closed: check.refusal === "closed",
         remaining: check.remaining, // 0 on a closed day
         adding: check.adding,
-        mostColonies: Math.floor((current + check.remaining) / onDay.length),
+        coloniesShort: check.adding > check.remaining,
+        gramsRemaining: check.gramsRemaining,
+        addingGrams: check.addingGrams,
+        gramsShort: check.gramsShort,
+        mostColonies: Math.max(0, most),
       };
     });
-  if (crowded.length) throw new YardEditRefused(crowded, colonyCount);
+  if (crowded.length === 0) return;
+  const field: RoomField =
+    growing.some((v) => colonyCount > v.colonies_expected) || (before.boxType === input.boxType && before.broodBoxesPerColony === input.broodBoxesPerColony)
+      ? "colonyCount"
+      : before.boxType !== input.boxType
+        ? "boxType"
+        : "broodBoxesPerColony";
+  throw new YardEditRefused(crowded, colonyCount, field, centigramsToGrams(newDose));
 }
 
 function yardColumns(input: YardInput) {
@@ -130,8 +178,9 @@ export async function createYard(db: Knex, customerId: number | string, input: Y
 
 /**
  * Updates a yard of this customer; false when the yard is not theirs. Booked visits take the
- * new colony count, so the day's room and the crew's dose follow the change. A bigger count
- * must fit on each of those days (YardEditRefused otherwise, and nothing is written).
+ * new colony count, so the day's room and the crew's dose follow the change. A bigger count,
+ * or boxes that take more acid, must fit on each of those days, in colonies and in the crews'
+ * grams (YardEditRefused otherwise, and nothing is written).
  * Locks: the yard, its booked visits (by id), then their days in date order — a booking
  * takes its yards before its day and a reschedule its visit before its day, the same order.
  */
@@ -144,7 +193,7 @@ export async function updateYard(db: Knex, customerId: number | string, yardId: 
       .orderBy("id")
       .forUpdate()
       .select("id", "service_date", "colonies_expected");
-    await holdRoomForBiggerVisits(trx, booked, input.colonyCount);
+    await holdRoomForBiggerVisits(trx, booked, { boxType: before.box_type, broodBoxesPerColony: before.brood_boxes_per_colony }, input);
     await trx("yards").where({ id: yardId }).update({ ...yardColumns(input), updated_at: trx.fn.now() });
     await matchColonies(trx, yardId, input);
     // Only the visits whose days were checked above; one added meanwhile (a next round) took

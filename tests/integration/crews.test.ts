@@ -313,8 +313,8 @@ describe("the booking capacity follows the crews", () => {
     const week = await roomBetween(db, settings, monday, addCalendarDays(monday, 6));
     // Mon–Fri: the weekday crew, capped at 12 colonies.
     expect(week.slice(0, 5).map((d) => d.capacity)).toEqual([12, 12, 12, 12, 12]);
-    // Saturday: 15.5 g at 1 g per brood box is 15 colonies.
-    expect(week[5]).toMatchObject({ capacity: 15, crewsWorking: 1, closed: false });
+    // Saturday: 15.5 g is at most 31 colonies (one nuc box each, 0.5 g), and exactly 15.5 g.
+    expect(week[5]).toMatchObject({ capacity: 31, gramsCapacity: 15.5, crewsWorking: 1, closed: false });
     // Sunday: nobody works; the day takes nothing and counts as closed.
     expect(week[6]).toMatchObject({ capacity: 0, crewsWorking: 0, closed: true });
 

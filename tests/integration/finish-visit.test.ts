@@ -168,6 +168,18 @@ describe("finishing a visit", () => {
     expect(next).toMatchObject({ service_date: "2026-11-17", status: "deferred", defer_reason: result.nextVisitDeferReason });
   });
 
+  it("defers the next round with a reason when its day's crews cannot apply the grams it needs", async () => {
+    const stop = await aStop(db, crew, { date: DATE, colonies: 4, rounds: 3, intervalDays: 7 });
+    // 3.5 g a day: room for 7 colonies of one nuc box (0.5 g), but this yard's 4 deep
+    // single-box colonies need 4 g at 1 g per brood box.
+    await db("crews").where({ id: crew.id }).update({ max_dose_grams_per_day: 3.5 });
+    await tallyWholeStop(stop);
+    const result = await finish(stop);
+    expect(result.nextVisitStatus).toBe("deferred");
+    expect(result.nextVisitDeferReason).toMatch(/2026-11-17.*can apply 3\.5 g more and this yard needs 4 g/);
+    expect(await db("visits").where({ id: result.nextVisitId! }).first()).toMatchObject({ status: "deferred", colonies_expected: 4 });
+  });
+
   it("completes the course and the booking after the last round", async () => {
     const stop = await aStop(db, crew, { date: DATE, colonies: 2, rounds: 3, roundNumber: 3 });
     await tallyWholeStop(stop);
