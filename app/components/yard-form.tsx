@@ -1,5 +1,5 @@
 import { Form, useNavigation } from "react-router";
-import { BOX_TYPE_LABELS, BOX_TYPES } from "~/domain/box-types";
+import { BOX_TYPE_LABELS, BOX_TYPES, MAX_BROOD_BOXES, MIN_BROOD_BOXES } from "~/domain/box-types";
 import type { FieldErrors } from "~/forms/field-errors";
 import { LocationPicker } from "./map/location-picker";
 import { Button } from "./ui/button";
@@ -76,7 +76,7 @@ export function YardForm({
       <Card title="Colonies">
         <div className="grid gap-4 sm:grid-cols-2">
           <Field label="Colonies (hives) to treat" name="colonyCount" type="number" inputMode="numeric" min={0} max={200} step={1} defaultValue={values.colonyCount} error={errors.colonyCount} required />
-          <Field label="Brood boxes per colony" name="broodBoxesPerColony" type="number" inputMode="numeric" min={1} max={4} step={1} defaultValue={values.broodBoxesPerColony ?? "1"} error={errors.broodBoxesPerColony} hint="Honey supers do not count: the dose goes by brood boxes." required />
+          <Field label="Brood boxes per colony" name="broodBoxesPerColony" type="number" inputMode="numeric" min={MIN_BROOD_BOXES} max={MAX_BROOD_BOXES} step={1} defaultValue={values.broodBoxesPerColony ?? "1"} error={errors.broodBoxesPerColony} hint="Honey supers do not count: the dose goes by brood boxes." required />
         </div>
         <fieldset className="mt-4" aria-describedby={`boxType-hint${errors.boxType ? " boxType-error" : ""}`}>
           <legend className="font-semibold">Brood box type</legend>

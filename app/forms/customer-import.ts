@@ -1,5 +1,6 @@
 import Papa from "papaparse";
 import { z } from "zod";
+import { BOX_TYPE_LABELS, BOX_TYPES, MAX_BROOD_BOXES, MIN_BROOD_BOXES, type BoxType } from "~/domain/box-types";
 
 // Customers and their yards as a CSV file: one row per yard, the customer's columns
 // repeated on each of their rows. The row schema and the whole-file check below run in
@@ -18,12 +19,17 @@ export const CUSTOMER_CSV_COLUMNS = [
   "lat",
   "lng",
   "colonies",
+  "box_type",
   "brood_boxes_per_colony",
   "brood_status",
   "supers_off",
   "access_notes",
 ] as const;
 export type CustomerCsvColumn = (typeof CUSTOMER_CSV_COLUMNS)[number];
+
+/** Columns a file may leave out of its header: files made before box_type existed still import. */
+export const OPTIONAL_CSV_COLUMNS: readonly CustomerCsvColumn[] = ["box_type"];
+const REQUIRED_CSV_COLUMNS = CUSTOMER_CSV_COLUMNS.filter((c) => !OPTIONAL_CSV_COLUMNS.includes(c));
 
 /** The customer's own columns: every row of one e-mail must carry the same values. */
 export const CUSTOMER_COLUMNS = ["customer_name", "phone", "address_line", "city", "region", "postal_code"] as const;
@@ -32,6 +38,10 @@ export const MAX_IMPORT_BYTES = 5 * 1024 * 1024;
 export const MAX_IMPORT_ROWS = 5000;
 /** Problems listed in full; beyond this only the count is reported. */
 export const MAX_LISTED_ERRORS = 1000;
+
+function listed(words: string[]): string {
+  return words.length < 2 ? words.join("") : `${words.slice(0, -1).join(", ")} or ${words.at(-1)}`;
+}
 
 /** What each column holds, for the help table on the import page. */
 export const CUSTOMER_CSV_HELP: Record<CustomerCsvColumn, string> = {
@@ -46,7 +56,8 @@ export const CUSTOMER_CSV_HELP: Record<CustomerCsvColumn, string> = {
   lat: "Latitude in decimal degrees, −90 to 90",
   lng: "Longitude in decimal degrees, −180 to 180",
   colonies: "Number of colonies, a whole number 0 to 200",
-  brood_boxes_per_colony: "Brood boxes per colony, 1 to 4 (a living colony has at least one)",
+  box_type: `Brood box type, which sets the dose: ${listed(BOX_TYPES.map((t) => BOX_TYPE_LABELS[t].toLowerCase()))}; blank = deep. A file without this column leaves each yard's box type as it is (new yards are deep)`,
+  brood_boxes_per_colony: `Brood boxes per colony, ${MIN_BROOD_BOXES} to ${MAX_BROOD_BOXES} (a living colony has at least one)`,
   brood_status: "brood, broodless or unknown (blank = unknown)",
   supers_off: "yes or no (true / false also work; blank = no)",
   access_notes: "Gate codes, parking, dogs … (may be blank)",
@@ -92,6 +103,22 @@ function wholeNumber(label: string, max: number, tooMany: string, least?: { min:
   );
 }
 
+// The box type as written in the cell: its name (deep, medium, nuc) or the label the app
+// shows ("Nuc (small single box)"), in any case and spacing.
+const BOX_TYPE_BY_WORD = new Map<string, BoxType>(BOX_TYPES.flatMap((t) => [[t, t], [BOX_TYPE_LABELS[t].toLowerCase(), t]] as const));
+const BOX_TYPE_MESSAGE = `Enter the box type as ${listed([...BOX_TYPES])} (blank = deep).`;
+
+const boxTypeCell = cell(
+  z.string().transform((v, ctx): BoxType => {
+    const word = v.toLowerCase().replace(/\s+/g, " ");
+    if (word === "") return "deep";
+    const boxType = BOX_TYPE_BY_WORD.get(word);
+    if (boxType) return boxType;
+    ctx.addIssue({ code: "custom", message: BOX_TYPE_MESSAGE });
+    return z.NEVER;
+  }),
+);
+
 const YES = ["yes", "true"];
 const NO = ["no", "false", ""];
 
@@ -120,9 +147,12 @@ export const customerImportRowSchema = z.object({
   lat: decimal("latitude", "42.4440", -90, 90),
   lng: decimal("longitude", "-76.5019", -180, 180),
   colonies: wholeNumber("number of colonies", 200, "Enter at most 200 colonies in one yard; split a larger apiary into several yards."),
-  brood_boxes_per_colony: wholeNumber("brood boxes per colony", 4, "Enter at most 4 brood boxes per colony.", {
-    min: 1,
-    message: "A living colony has at least one brood box: enter 1 to 4 brood boxes per colony.",
+  // null: the file has no box_type column (made before it existed), so the import leaves an
+  // existing yard's box type alone rather than turning its medium or nuc boxes into deeps.
+  box_type: z.preprocess((v) => (v === undefined ? null : v), boxTypeCell.nullable()),
+  brood_boxes_per_colony: wholeNumber("brood boxes per colony", MAX_BROOD_BOXES, `Enter at most ${MAX_BROOD_BOXES} brood boxes per colony.`, {
+    min: MIN_BROOD_BOXES,
+    message: `A living colony has at least one brood box: enter ${MIN_BROOD_BOXES} to ${MAX_BROOD_BOXES} brood boxes per colony.`,
   }),
   brood_status: cell(
     z
@@ -246,9 +276,9 @@ class CustomerCsvChecker {
       }
       seen.add(name);
     }
-    for (const column of CUSTOMER_CSV_COLUMNS) {
+    for (const column of REQUIRED_CSV_COLUMNS) {
       if (!seen.has(column)) {
-        this.report(line, "header", `The header lacks the column “${column}”. The first line must name all ${CUSTOMER_CSV_COLUMNS.length} columns (values may be blank where allowed).`);
+        this.report(line, "header", `The header lacks the column “${column}”. The first line must name every column but ${listed([...OPTIONAL_CSV_COLUMNS])} (values may be blank where allowed).`);
         ok = false;
       }
     }

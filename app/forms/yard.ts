@@ -1,5 +1,5 @@
 import { z } from "zod";
-import { BOX_TYPES } from "~/domain/box-types";
+import { BOX_TYPES, MAX_BROOD_BOXES, MIN_BROOD_BOXES } from "~/domain/box-types";
 
 function numberFrom(label: string) {
   return z.preprocess(
@@ -27,7 +27,7 @@ export const yardSchema = z.object({
   ),
   broodBoxesPerColony: numberFrom("the brood boxes per colony").pipe(
     // The dose goes by brood boxes: 0 would let a colony be tallied "treated" with 0 g.
-    z.number().int("Brood boxes are whole boxes.").min(1, BROOD_BOX_MINIMUM_MESSAGE).max(4, "Enter at most 4 brood boxes per colony."),
+    z.number().int("Brood boxes are whole boxes.").min(MIN_BROOD_BOXES, BROOD_BOX_MINIMUM_MESSAGE).max(MAX_BROOD_BOXES, `Enter at most ${MAX_BROOD_BOXES} brood boxes per colony.`),
   ),
   // The dose rate goes by the box type. Left out (an older form), it is a deep, the box the
   // label's rate is for; anything else sent is refused, never guessed.

@@ -45,6 +45,8 @@ function yardColumns(row: CheckedImportRow) {
     lat: row.lat,
     lng: row.lng,
     colony_count: row.colonies,
+    // A file without the box_type column leaves an existing yard's box type as it is.
+    ...(row.box_type === null ? {} : { box_type: row.box_type }),
     brood_boxes_per_colony: row.brood_boxes_per_colony,
     brood_status: row.brood_status,
     supers_off: row.supers_off,
@@ -60,7 +62,7 @@ const BATCH = 500;
  * transaction: a customer per e-mail (an existing customer with that e-mail is reused
  * and its contact columns updated), a yard per row (a yard of that customer with the
  * same name is updated rather than repeated), colonies H1…Hn per yard with the yard's
- * brood boxes, and one audit entry.
+ * brood boxes and box type, and one audit entry.
  */
 export async function importCustomersCsv(db: Knex, csvText: string, actorUserId: number | string): Promise<CustomerImportResult> {
   if (Buffer.byteLength(csvText, "utf8") > MAX_IMPORT_BYTES) {
@@ -127,7 +129,7 @@ export async function importCustomersCsv(db: Knex, csvText: string, actorUserId:
       if (yardId !== undefined) {
         await trx("yards").where({ id: yardId }).update({ ...yardColumns(row), updated_at: trx.fn.now() });
         updatedYardIds.push(yardId);
-      } else newYards.push({ customer_id: customerId, ...yardColumns(row) });
+      } else newYards.push({ customer_id: customerId, box_type: "deep", ...yardColumns(row) });
     }
     const createdYardIds: number[] = [];
     for (let i = 0; i < newYards.length; i += BATCH) {
@@ -136,15 +138,15 @@ export async function importCustomersCsv(db: Knex, csvText: string, actorUserId:
     }
     const allYardIds = [...updatedYardIds, ...createdYardIds];
 
-    // One active colony row per colony, H1…Hn, with the yard's brood boxes and status;
+    // One active colony row per colony, H1…Hn, with the yard's brood boxes, box type and status;
     // colonies beyond the count (or not numbered H…) are retired, as when a yard is edited.
     const colonies = await trx.raw<{ rowCount: number }>(
-      `insert into colonies (yard_id, label, brood_boxes, brood_status)
-       select y.id, 'H' || n, y.brood_boxes_per_colony, y.brood_status
+      `insert into colonies (yard_id, label, brood_boxes, box_type, brood_status)
+       select y.id, 'H' || n, y.brood_boxes_per_colony, y.box_type, y.brood_status
          from yards y cross join lateral generate_series(1, y.colony_count) as n
         where y.id = any(?::bigint[])
        on conflict (yard_id, label) do update
-         set active = true, brood_boxes = excluded.brood_boxes, brood_status = excluded.brood_status, updated_at = now()`,
+         set active = true, brood_boxes = excluded.brood_boxes, box_type = excluded.box_type, brood_status = excluded.brood_status, updated_at = now()`,
       [allYardIds],
     );
     if (updatedYardIds.length) {
@@ -212,6 +214,7 @@ export async function exportCustomersCsv(db: Knex): Promise<string> {
       "yards.lat",
       "yards.lng",
       "yards.colony_count as colonies",
+      "yards.box_type",
       "yards.brood_boxes_per_colony",
       "yards.brood_status",
       "yards.supers_off",
@@ -229,6 +232,7 @@ export async function exportCustomersCsv(db: Knex): Promise<string> {
     lat: Number(r.lat),
     lng: Number(r.lng),
     colonies: r.colonies,
+    box_type: r.box_type,
     brood_boxes_per_colony: r.brood_boxes_per_colony,
     brood_status: r.brood_status,
     supers_off: r.supers_off ? "yes" : "no",

@@ -28,6 +28,7 @@ const wren: Row = {
   lat: "42.4906",
   lng: "-76.2972",
   colonies: "3",
+  box_type: "deep",
   brood_boxes_per_colony: "2",
   brood_status: "brood",
   supers_off: "yes",
@@ -46,14 +47,32 @@ const tobias: Row = {
   lat: "42.5879",
   lng: "-76.3666",
   colonies: "4",
+  box_type: "",
   brood_boxes_per_colony: "1",
   brood_status: "unknown",
   supers_off: "false",
   access_notes: "Park by the barn, walk up past the pond",
 };
 
-function csv(rows: Row[]): string {
-  return Papa.unparse({ fields: [...CUSTOMER_CSV_COLUMNS], data: rows.map((r) => CUSTOMER_CSV_COLUMNS.map((c) => r[c])) });
+function csv(rows: Row[], columns: readonly (keyof Row)[] = CUSTOMER_CSV_COLUMNS): string {
+  return Papa.unparse({ fields: [...columns], data: rows.map((r) => columns.map((c) => r[c])) });
+}
+
+/** The columns of a file made before box_type existed. */
+const OLD_COLUMNS = CUSTOMER_CSV_COLUMNS.filter((c) => c !== "box_type");
+
+async function boxTypes(email: string) {
+  const yards = await db("yards")
+    .join("customers", "customers.id", "yards.customer_id")
+    .where("customers.email", email)
+    .orderBy("yards.name")
+    .select("yards.id", "yards.name", "yards.box_type");
+  const result: Record<string, { yard: string; colonies: string[] }> = {};
+  for (const y of yards) {
+    const colonies = await db("colonies").where({ yard_id: y.id, active: true }).orderBy("label").pluck("box_type");
+    result[y.name] = { yard: y.box_type, colonies };
+  }
+  return result;
 }
 
 async function counts() {
@@ -83,6 +102,7 @@ describe("importing customers and yards from CSV", () => {
       tobias,
       { ...tobias, yard_name: "Meadow", lng: "-200", brood_status: "lots" },
       { ...tobias, yard_name: "Creek", supers_off: "perhaps" },
+      { ...tobias, yard_name: "Ridge", box_type: "shallow" },
     ]);
     const result = await importCustomersCsv(db, file, officeId);
     expect(result.ok).toBe(false);
@@ -93,8 +113,10 @@ describe("importing customers and yards from CSV", () => {
       [5, "lng"],
       [5, "brood_status"],
       [6, "supers_off"],
+      [7, "box_type"],
     ]);
-    expect(result.totalErrors).toBe(5);
+    expect(result.errors.at(-1)?.message).toBe("Enter the box type as deep, medium or nuc (blank = deep).");
+    expect(result.totalErrors).toBe(6);
     expect(await counts()).toEqual(nothing);
   });
 
@@ -142,6 +164,49 @@ describe("importing customers and yards from CSV", () => {
     ]);
   });
 
+  it("stores medium and nuc yards with their box type, on the yard and on each colony", async () => {
+    const result = await importCustomersCsv(
+      db,
+      csv([
+        { ...wren, box_type: "Medium" },
+        { ...wrenOrchard, box_type: "NUC", colonies: "2" },
+        { ...wren, yard_name: "Creek", box_type: "", colonies: "1" },
+      ]),
+      officeId,
+    );
+    expect(result).toMatchObject({ ok: true, yardsCreated: 3 });
+    expect(await boxTypes("wren@example.com")).toEqual({
+      Creek: { yard: "deep", colonies: ["deep"] },
+      "Home yard": { yard: "medium", colonies: ["medium", "medium", "medium"] },
+      Orchard: { yard: "nuc", colonies: ["nuc", "nuc"] },
+    });
+  });
+
+  it("changes a yard's box type, and its colonies', when the file is imported again", async () => {
+    await importCustomersCsv(db, csv([wren, wrenOrchard]), officeId);
+    expect(await boxTypes("wren@example.com")).toEqual({
+      "Home yard": { yard: "deep", colonies: ["deep", "deep", "deep"] },
+      Orchard: { yard: "deep", colonies: ["deep", "deep"] },
+    });
+    const again = await importCustomersCsv(db, csv([{ ...wren, box_type: "medium", colonies: "4" }, { ...wrenOrchard, box_type: "nuc" }]), officeId);
+    expect(again).toMatchObject({ ok: true, yardsCreated: 0 });
+    expect(await boxTypes("wren@example.com")).toEqual({
+      "Home yard": { yard: "medium", colonies: ["medium", "medium", "medium", "medium"] },
+      Orchard: { yard: "nuc", colonies: ["nuc", "nuc"] },
+    });
+  });
+
+  it("imports a file made before the box_type column: new yards are deep, existing yards keep their box type", async () => {
+    await importCustomersCsv(db, csv([{ ...wren, box_type: "nuc" }]), officeId);
+    const result = await importCustomersCsv(db, csv([{ ...wren, colonies: "4" }, wrenOrchard, tobias], OLD_COLUMNS), officeId);
+    expect(result).toMatchObject({ ok: true, customers: 2, yards: 3, yardsCreated: 2 });
+    expect(await boxTypes("wren@example.com")).toEqual({
+      "Home yard": { yard: "nuc", colonies: ["nuc", "nuc", "nuc", "nuc"] },
+      Orchard: { yard: "deep", colonies: ["deep", "deep"] },
+    });
+    expect(await boxTypes("tobias@example.org")).toEqual({ Hilltop: { yard: "deep", colonies: ["deep", "deep", "deep", "deep"] } });
+  });
+
   it("refuses a file over 5 MB and a file with more than 5,000 rows", async () => {
     const big = `${CUSTOMER_CSV_COLUMNS.join(",")}\n${"x".repeat(MAX_IMPORT_BYTES)}`;
     const tooBig = await importCustomersCsv(db, big, officeId);
@@ -171,7 +236,7 @@ describe("exporting customers and yards as CSV", () => {
       yard_name: "=Top field",
       access_notes: 'Gate "B", then left;\nring before 8 am',
     };
-    await importCustomersCsv(db, csv([wren, wrenOrchard, tobias, tricky]), officeId);
+    await importCustomersCsv(db, csv([{ ...wren, box_type: "medium" }, { ...wrenOrchard, box_type: "nuc" }, tobias, tricky]), officeId);
     // An archived yard and an anonymised customer stay out of the export.
     const [gone] = await db("customers").insert({ name: "Former", email: "former@example.com", anonymised_at: new Date() }).returning("id");
     await db("yards").insert({ customer_id: gone.id, name: "Old", lat: 42, lng: -76 });
@@ -186,7 +251,7 @@ describe("exporting customers and yards as CSV", () => {
       .join("customers", "customers.id", "yards.customer_id")
       .whereNull("yards.archived_at")
       .whereNull("customers.anonymised_at")
-      .select("customers.*", "yards.name as yard_name", "yards.lat", "yards.lng", "yards.colony_count", "yards.brood_boxes_per_colony", "yards.brood_status", "yards.supers_off", "yards.access_notes");
+      .select("customers.*", "yards.name as yard_name", "yards.lat", "yards.lng", "yards.colony_count", "yards.box_type", "yards.brood_boxes_per_colony", "yards.brood_status", "yards.supers_off", "yards.access_notes");
     expect(parsed.data).toHaveLength(fromDb.length);
     expect(fromDb).toHaveLength(4);
     const unescape = (v: string) => v.replace(/^'(?=[=+\-@])/, "");
@@ -203,6 +268,7 @@ describe("exporting customers and yards as CSV", () => {
         lat: Number(row!.lat),
         lng: Number(row!.lng),
         colonies: Number(row!.colonies),
+        box_type: row!.box_type,
         brood_boxes_per_colony: Number(row!.brood_boxes_per_colony),
         brood_status: row!.brood_status,
         supers_off: row!.supers_off === "yes",
@@ -217,6 +283,7 @@ describe("exporting customers and yards as CSV", () => {
         lat: yard.lat,
         lng: yard.lng,
         colonies: yard.colony_count,
+        box_type: yard.box_type,
         brood_boxes_per_colony: yard.brood_boxes_per_colony,
         brood_status: yard.brood_status,
         supers_off: yard.supers_off,
@@ -224,12 +291,40 @@ describe("exporting customers and yards as CSV", () => {
       });
     }
     // Formula-like text is written with a leading apostrophe for spreadsheets.
+    expect(fromDb.map((y) => y.box_type).sort()).toEqual(["deep", "deep", "medium", "nuc"]);
     expect(parsed.data.find((r) => r.email === "zoe@example.net")).toMatchObject({ phone: "'+1 607 555 0177", yard_name: "'=Top field" });
 
     // Round trip: importing the export changes nothing.
-    const before = await db("yards").orderBy("id").select("id", "customer_id", "name", "lat", "lng", "colony_count", "brood_boxes_per_colony", "brood_status", "supers_off", "access_notes");
+    const yardColumns = ["name", "lat", "lng", "colony_count", "box_type", "brood_boxes_per_colony", "brood_status", "supers_off", "access_notes"] as const;
+    const before = await db("yards").orderBy("id").select("id", "customer_id", ...yardColumns);
     const result = await importCustomersCsv(db, text, officeId);
     expect(result).toMatchObject({ ok: true, customers: 3, yards: 4, customersCreated: 0, yardsCreated: 0 });
-    expect(await db("yards").orderBy("id").select("id", "customer_id", "name", "lat", "lng", "colony_count", "brood_boxes_per_colony", "brood_status", "supers_off", "access_notes")).toEqual(before);
+    expect(await db("yards").orderBy("id").select("id", "customer_id", ...yardColumns)).toEqual(before);
+
+    // Moved to an empty database, the export gives the same yards, box types and colonies.
+    type MovedColony = { label: string; brood_boxes: number; box_type: string; brood_status: string };
+    type MovedYard = Record<(typeof yardColumns)[number], unknown> & { email: string; name: string; box_type: string; colonies: MovedColony[] };
+    const yardsAndColonies = async (): Promise<MovedYard[]> => {
+      const yards = await db("yards").join("customers", "customers.id", "yards.customer_id").whereNull("yards.archived_at").whereNull("customers.anonymised_at").select("customers.email", "yards.id", ...yardColumns.map((c) => `yards.${c}`));
+      const all = await Promise.all(
+        yards.map(async ({ id, ...yard }) => ({
+          ...yard,
+          colonies: (await db("colonies").where({ yard_id: id, active: true }).orderBy("label").select("label", "brood_boxes", "box_type", "brood_status")) as MovedColony[],
+        })),
+      );
+      return all.sort((a, b) => `${a.email} ${a.name}`.localeCompare(`${b.email} ${b.name}`));
+    };
+    const original = await yardsAndColonies();
+    await resetDatabase(db);
+    const [office] = await db("users").insert({ email: "office@example.test", password_hash: "x", role: "office", name: "Office" }).returning("id");
+    expect(await importCustomersCsv(db, text, office.id)).toMatchObject({ ok: true, customers: 3, yards: 4, customersCreated: 3, yardsCreated: 4 });
+    const moved = await yardsAndColonies();
+    expect(moved).toEqual(original);
+    expect(moved.map((y) => [y.name, y.box_type, [...new Set(y.colonies.map((c) => c.box_type))]])).toEqual(
+      expect.arrayContaining([
+        ["Home yard", "medium", ["medium"]],
+        ["Orchard", "nuc", ["nuc"]],
+      ]),
+    );
   });
 });

@@ -1,4 +1,5 @@
 import { describe, expect, it } from "vitest";
+import { MAX_BROOD_BOXES } from "~/domain/box-types";
 import { checkCustomerCsv, CUSTOMER_CSV_COLUMNS, CUSTOMER_CSV_HELP, customerCsvText, customerImportRowSchema } from "~/forms/customer-import";
 import { fieldErrors } from "~/forms/field-errors";
 import { tallyPayloadSchema } from "~/forms/sync";
@@ -21,6 +22,7 @@ const row = {
   lat: "42.4906",
   lng: "-76.2972",
   colonies: "6",
+  box_type: "",
   brood_boxes_per_colony: "2",
   brood_status: "brood",
   supers_off: "yes",
@@ -34,9 +36,10 @@ describe("the yard form", () => {
     expect(fieldErrors(result.error!)).toEqual({ broodBoxesPerColony: "A living colony has at least one brood box." });
   });
 
-  it("accepts 1 to 4 brood boxes, and still refuses 5 and half boxes", () => {
-    for (const boxes of ["1", "2", "3", "4"]) expect(yardSchema.parse({ ...yard, broodBoxesPerColony: boxes }).broodBoxesPerColony).toBe(Number(boxes));
-    expect(fieldErrors(yardSchema.safeParse({ ...yard, broodBoxesPerColony: "5" }).error!).broodBoxesPerColony).toMatch(/at most 4/);
+  it("accepts 1 to 6 brood boxes (the crew's screen allows as many), and refuses 7 and half boxes", () => {
+    expect(MAX_BROOD_BOXES).toBe(6);
+    for (const boxes of ["1", "2", "3", "4", "5", "6"]) expect(yardSchema.parse({ ...yard, broodBoxesPerColony: boxes }).broodBoxesPerColony).toBe(Number(boxes));
+    expect(fieldErrors(yardSchema.safeParse({ ...yard, broodBoxesPerColony: "7" }).error!).broodBoxesPerColony).toBe("Enter at most 6 brood boxes per colony.");
     expect(fieldErrors(yardSchema.safeParse({ ...yard, broodBoxesPerColony: "1.5" }).error!).broodBoxesPerColony).toMatch(/whole boxes/);
   });
 
@@ -50,7 +53,7 @@ describe("the customer import", () => {
     const result = customerImportRowSchema.safeParse({ ...row, brood_boxes_per_colony: "0" });
     expect(result.success).toBe(false);
     const issues = result.error!.issues.filter((i) => i.path[0] === "brood_boxes_per_colony");
-    expect(issues.map((i) => i.message)).toEqual(["A living colony has at least one brood box: enter 1 to 4 brood boxes per colony."]);
+    expect(issues.map((i) => i.message)).toEqual(["A living colony has at least one brood box: enter 1 to 6 brood boxes per colony."]);
     expect(customerImportRowSchema.parse({ ...row, brood_boxes_per_colony: "1" }).brood_boxes_per_colony).toBe(1);
   });
 
@@ -62,14 +65,14 @@ describe("the customer import", () => {
     ]);
     const check = await checkCustomerCsv(text);
     expect(check.errors).toEqual([
-      { line: 3, field: "brood_boxes_per_colony", message: "A living colony has at least one brood box: enter 1 to 4 brood boxes per colony." },
+      { line: 3, field: "brood_boxes_per_colony", message: "A living colony has at least one brood box: enter 1 to 6 brood boxes per colony." },
     ]);
     expect(check.rows.map((r) => r.yard_name)).toEqual(["North", "East"]);
   });
 
-  it("says 1 to 4 in the column help", () => {
+  it("says 1 to 6 in the column help", () => {
     expect(CUSTOMER_CSV_COLUMNS).toContain("brood_boxes_per_colony");
-    expect(CUSTOMER_CSV_HELP.brood_boxes_per_colony).toMatch(/^Brood boxes per colony, 1 to 4/);
+    expect(CUSTOMER_CSV_HELP.brood_boxes_per_colony).toMatch(/^Brood boxes per colony, 1 to 6/);
   });
 });
 

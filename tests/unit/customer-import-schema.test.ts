@@ -1,5 +1,6 @@
 import { describe, expect, it } from "vitest";
-import { checkCustomerCsv, CUSTOMER_CSV_COLUMNS, customerCsvText, customerImportRowSchema, MAX_IMPORT_ROWS } from "~/forms/customer-import";
+import { BOX_TYPE_LABELS, MAX_BROOD_BOXES, MIN_BROOD_BOXES } from "~/domain/box-types";
+import { checkCustomerCsv, CUSTOMER_CSV_COLUMNS, CUSTOMER_CSV_HELP, customerCsvText, customerImportRowSchema, MAX_IMPORT_ROWS } from "~/forms/customer-import";
 
 const good = {
   customer_name: "Wren Applegarth",
@@ -13,6 +14,7 @@ const good = {
   lat: "42.4906",
   lng: "-76.2972",
   colonies: "6",
+  box_type: "Medium",
   brood_boxes_per_colony: "2",
   brood_status: "Brood",
   supers_off: "Yes",
@@ -33,6 +35,7 @@ describe("customer import row schema", () => {
       lat: 42.4906,
       lng: -76.2972,
       colonies: 6,
+      box_type: "medium",
       brood_boxes_per_colony: 2,
       brood_status: "brood",
       supers_off: true,
@@ -40,8 +43,8 @@ describe("customer import row schema", () => {
   });
 
   it("turns blank optional cells into nulls and defaults", () => {
-    const row = customerImportRowSchema.parse({ ...good, phone: "", address_line: " ", city: "", region: "", postal_code: "", brood_status: "", supers_off: "", access_notes: "" });
-    expect(row).toMatchObject({ phone: null, address_line: null, city: null, region: null, postal_code: null, brood_status: "unknown", supers_off: false, access_notes: "" });
+    const row = customerImportRowSchema.parse({ ...good, phone: "", address_line: " ", city: "", region: "", postal_code: "", box_type: " ", brood_status: "", supers_off: "", access_notes: "" });
+    expect(row).toMatchObject({ phone: null, address_line: null, city: null, region: null, postal_code: null, box_type: "deep", brood_status: "unknown", supers_off: false, access_notes: "" });
   });
 
   it.each([
@@ -55,7 +58,10 @@ describe("customer import row schema", () => {
     ["colonies", "-1", /whole number, 0 or more/],
     ["colonies", "201", /at most 200 colonies/],
     ["colonies", "", /Enter the number of colonies/],
-    ["brood_boxes_per_colony", "5", /at most 4 brood boxes/],
+    ["brood_boxes_per_colony", String(MAX_BROOD_BOXES + 1), new RegExp(`at most ${MAX_BROOD_BOXES} brood boxes`)],
+    ["brood_boxes_per_colony", String(MIN_BROOD_BOXES - 1), new RegExp(`enter ${MIN_BROOD_BOXES} to ${MAX_BROOD_BOXES} brood boxes`)],
+    ["box_type", "shallow", /Enter the box type as deep, medium or nuc \(blank = deep\)/],
+    ["box_type", "deeps", /Enter the box type as deep, medium or nuc/],
     ["email", "wren-at-example.com", /valid e-mail address/],
     ["email", "", /Enter the customer's e-mail/],
     ["customer_name", "  ", /Enter the customer's name/],
@@ -71,6 +77,31 @@ describe("customer import row schema", () => {
     expect(customerImportRowSchema.safeParse({ ...good, lat: "90", lng: "-180", supers_off: "FALSE" }).success).toBe(true);
     expect(customerImportRowSchema.parse({ ...good, supers_off: "true" }).supers_off).toBe(true);
     expect(customerImportRowSchema.parse({ ...good, colonies: "0" }).colonies).toBe(0);
+  });
+
+  it.each([
+    ["deep", "deep"],
+    ["DEEP", "deep"],
+    ["Medium", "medium"],
+    [" nuc ", "nuc"],
+    ["NUC", "nuc"],
+    ["", "deep"],
+    [BOX_TYPE_LABELS.nuc, "nuc"],
+    ["nuc  (SMALL single box)", "nuc"],
+  ] as const)("reads the box type %j as %s", (value, boxType) => {
+    expect(customerImportRowSchema.parse({ ...good, box_type: value }).box_type).toBe(boxType);
+  });
+
+  it("takes every number of brood boxes the crew may record, and no more", () => {
+    for (let boxes = MIN_BROOD_BOXES; boxes <= MAX_BROOD_BOXES; boxes++) {
+      expect(customerImportRowSchema.parse({ ...good, brood_boxes_per_colony: String(boxes) }).brood_boxes_per_colony).toBe(boxes);
+    }
+    expect(CUSTOMER_CSV_HELP.brood_boxes_per_colony).toContain(`${MIN_BROOD_BOXES} to ${MAX_BROOD_BOXES}`);
+  });
+
+  it("explains the box type column in plain words", () => {
+    expect(CUSTOMER_CSV_COLUMNS.indexOf("box_type")).toBe(CUSTOMER_CSV_COLUMNS.indexOf("brood_boxes_per_colony") - 1);
+    expect(CUSTOMER_CSV_HELP.box_type).toMatch(/deep, medium or nuc \(small single box\); blank = deep/);
   });
 
   it("takes off the apostrophe the export puts before formula-like text", () => {
@@ -115,6 +146,28 @@ describe("checking a whole file", () => {
     expect(check.errors[1].message).toMatch(/lacks the column “lat”/);
   });
 
+  it("names the line and column of a bad box type", async () => {
+    const check = await checkCustomerCsv([header, line({ yard_name: "North" }), line({ yard_name: "South", box_type: "langstroth" })].join("\n"));
+    expect(check.errors).toEqual([{ line: 3, field: "box_type", message: "Enter the box type as deep, medium or nuc (blank = deep)." }]);
+    expect(check.rows.map((r) => [r.yard_name, r.box_type])).toEqual([["North", "medium"]]);
+  });
+
+  it("still reads a file made before the box_type column, leaving the box type unset", async () => {
+    const oldColumns = CUSTOMER_CSV_COLUMNS.filter((c) => c !== "box_type");
+    const oldLine = (change: Partial<Record<keyof typeof good, string>> = {}) => oldColumns.map((c) => ({ ...good, ...change })[c]).join(",");
+    const check = await checkCustomerCsv([oldColumns.join(","), oldLine({ yard_name: "North" }), oldLine({ yard_name: "South" })].join("\n"));
+    expect(check.errors).toEqual([]);
+    expect(check.rows.map((r) => [r.yard_name, r.box_type, r.brood_boxes_per_colony])).toEqual([
+      ["North", null, 2],
+      ["South", null, 2],
+    ]);
+  });
+
+  it("still needs every other column", async () => {
+    const check = await checkCustomerCsv(`${CUSTOMER_CSV_COLUMNS.filter((c) => c !== "box_type" && c !== "colonies").join(",")}\n`);
+    expect(check.errors).toEqual([{ line: 1, field: "header", message: expect.stringMatching(/lacks the column “colonies”.*every column but box_type/) }]);
+  });
+
   it("refuses an empty file and a header without rows", async () => {
     expect((await checkCustomerCsv("")).errors[0]).toMatchObject({ line: 1, field: "header" });
     expect((await checkCustomerCsv(`${header}\n`)).errors[0]).toMatchObject({ line: 2, field: "file", message: "The file has no rows under the header." });
@@ -123,7 +176,7 @@ describe("checking a whole file", () => {
   it("reports a row with too few values and an unclosed quote", async () => {
     const check = await checkCustomerCsv([header, "Wren,wren@example.com,607", line({ yard_name: "A", access_notes: '"never closed' })].join("\n"));
     expect(check.errors[0]).toMatchObject({ line: 2, field: "row" });
-    expect(check.errors[0].message).toMatch(/3 values; the header has 15 columns/);
+    expect(check.errors[0].message).toMatch(/3 values; the header has 16 columns/);
     expect(check.errors.some((e) => e.line === 3 && /not closed/.test(e.message))).toBe(true);
   });
 
@@ -156,11 +209,11 @@ describe("checking a whole file", () => {
 
   it("writes CSV that checks back to the same values", async () => {
     const text = customerCsvText([
-      { ...good, phone: "+1 607 555 0142", lat: 42.4906, lng: -76.2972, colonies: 6, brood_boxes_per_colony: 2, access_notes: 'Say "hi", then\nclose the gate' },
+      { ...good, phone: "+1 607 555 0142", lat: 42.4906, lng: -76.2972, colonies: 6, box_type: "nuc", brood_boxes_per_colony: 2, access_notes: 'Say "hi", then\nclose the gate' },
     ]);
     expect(text.split("\r\n")[0]).toBe(header);
     const check = await checkCustomerCsv(text);
     expect(check.totalErrors).toBe(0);
-    expect(check.rows[0]).toMatchObject({ phone: "+1 607 555 0142", lat: 42.4906, lng: -76.2972, access_notes: 'Say "hi", then\nclose the gate' });
+    expect(check.rows[0]).toMatchObject({ phone: "+1 607 555 0142", lat: 42.4906, lng: -76.2972, box_type: "nuc", access_notes: 'Say "hi", then\nclose the gate' });
   });
 });

@@ -264,7 +264,8 @@ export default function CustomersImport({ loaderData, actionData }: Route.Compon
         <Card title="Columns" className="h-fit">
           <p className="mb-3 text-sm">
             One row per yard; repeat the customer's columns on each of their yards. A customer whose e-mail is already on file is updated, not
-            added twice, and a yard with the same name as one of theirs is updated. Each yard gets colonies H1, H2, … up to its count.
+            added twice, and a yard with the same name as one of theirs is updated. Each yard gets colonies H1, H2, … up to its count, with the
+            yard's box type and brood boxes.
           </p>
           <dl className="flex flex-col gap-2 text-sm">
             {CUSTOMER_CSV_COLUMNS.map((column) => (
