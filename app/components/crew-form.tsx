@@ -1,26 +1,17 @@
-import { useCallback, useId, useMemo, useState } from "react";
+import { useId } from "react";
 import { Form, useNavigation } from "react-router";
 import { WEEKDAY_CHOICES, type CrewFormValues } from "~/forms/crew";
 import type { FieldErrors } from "~/forms/field-errors";
-import { YardMap, type LatLng } from "./map/yard-map";
+import { LocationPicker, PICKER_HINT } from "./map/location-picker";
 import { Button } from "./ui/button";
 import { Card } from "./ui/card";
 import { Field, FormMessage } from "./ui/field";
 
 export type CrewMemberChoice = { userId: number; name: string; email: string; disabled: boolean; otherActiveCrew: string | null };
 
-const asText = (n: number) => String(Math.round(n * 1e6) / 1e6);
-
-function parseCoordinate(text: string, limit: number): number | null {
-  if (text.trim() === "") return null;
-  const n = Number(text);
-  return Number.isFinite(n) && Math.abs(n) <= limit ? n : null;
-}
-
 /**
- * A crew's start or end point: its name, the map in picker mode and the coordinates typed or
- * dropped, kept in sync both ways (the yard form's picker, with this form's field names:
- * `${prefix}Label`, `${prefix}Lat`, `${prefix}Lng`).
+ * A crew's start or end point: its name, then the yard form's map picker with this form's
+ * field names (`${prefix}Label`, `${prefix}Lat`, `${prefix}Lng`).
  */
 function CrewPointPicker({
   prefix,
@@ -37,89 +28,25 @@ function CrewPointPicker({
   map: { tileUrl: string | null; attribution: string | null };
   optional?: boolean;
 }) {
-  const id = useId();
   const word = prefix === "start" ? "Start" : "End";
-  const [latText, setLatText] = useState(values.lat ?? "");
-  const [lngText, setLngText] = useState(values.lng ?? "");
-  const value = useMemo(() => {
-    const lat = parseCoordinate(latText, 90);
-    const lng = parseCoordinate(lngText, 180);
-    return lat == null || lng == null ? null : { lat, lng };
-  }, [latText, lngText]);
-  const fromMap = useCallback((next: LatLng) => {
-    setLatText(asText(next.lat));
-    setLngText(asText(next.lng));
-  }, []);
-  const picker = useMemo(() => ({ value, onChange: fromMap }), [value, fromMap]);
-  const hint = `${optional ? "Leave empty if the crew ends the day where it starts. " : ""}Click the map to drop the pin, drag it to adjust, or type the coordinates.`;
-
-  const coordinate = (which: "Lat" | "Lng", label: string, text: string, set: (v: string) => void, limit: number) => {
-    const name = `${prefix}${which}`;
-    const inputId = `${id}-${which}`;
-    const error = errors[name];
-    return (
-      <div className="flex flex-col gap-1">
-        <label htmlFor={inputId} className="font-semibold">
-          {label}
-        </label>
-        <input
-          id={inputId}
-          name={name}
-          type="number"
-          inputMode="decimal"
-          step="0.000001"
-          min={-limit}
-          max={limit}
-          required={!optional}
-          value={text}
-          onChange={(event) => set(event.currentTarget.value)}
-          aria-invalid={error ? true : undefined}
-          aria-describedby={[`${id}-hint`, error ? `${inputId}-error` : null].filter(Boolean).join(" ")}
-          className={`min-h-11 rounded-lg border-2 bg-card px-3 text-base tabular-nums ${error ? "border-alarm-700" : "border-line focus:border-pine-600"}`}
-        />
-        {error ? (
-          <p id={`${inputId}-error`} className="text-sm font-semibold text-alarm-700">
-            {error}
-          </p>
-        ) : null}
-      </div>
-    );
-  };
-
   return (
-    <fieldset className="flex min-w-0 flex-col gap-3">
-      <legend className="mb-1 text-lg font-bold">{legend}</legend>
+    <LocationPicker
+      defaultValue={{ lat: values.lat, lng: values.lng }}
+      errors={{ lat: errors[`${prefix}Lat`], lng: errors[`${prefix}Lng`] }}
+      names={{ lat: `${prefix}Lat`, lng: `${prefix}Lng` }}
+      labels={{ lat: `${word} latitude`, lng: `${word} longitude` }}
+      legend={legend}
+      legendClassName="mb-1 text-lg font-bold"
+      hint={`${optional ? "Leave empty if the crew ends the day where it starts. " : ""}${PICKER_HINT}`}
+      pointName={`${prefix} point`}
+      height="clamp(14rem, 35vh, 20rem)"
+      tileUrl={map.tileUrl}
+      tileAttribution={map.attribution}
+      required={!optional}
+      clearLabel={optional ? "Clear the end point" : undefined}
+    >
       <Field label={`${word} point name`} name={`${prefix}Label`} defaultValue={values.label} error={errors[`${prefix}Label`]} required={!optional} />
-      <p id={`${id}-hint`} className="text-sm text-ink-soft">
-        {hint}
-      </p>
-      <YardMap
-        markers={[]}
-        picker={picker}
-        height="clamp(14rem, 35vh, 20rem)"
-        tileUrl={map.tileUrl}
-        tileAttribution={map.attribution}
-        label={value ? `Map with the ${prefix} point at ${value.lat}, ${value.lng}` : `Map with no ${prefix} point yet`}
-        description={hint}
-      />
-      <div className="grid gap-3 sm:grid-cols-2">
-        {coordinate("Lat", `${word} latitude`, latText, setLatText, 90)}
-        {coordinate("Lng", `${word} longitude`, lngText, setLngText, 180)}
-      </div>
-      {optional && (latText !== "" || lngText !== "") ? (
-        <div>
-          <Button
-            variant="quiet"
-            onClick={() => {
-              setLatText("");
-              setLngText("");
-            }}
-          >
-            Clear the end point
-          </Button>
-        </div>
-      ) : null}
-    </fieldset>
+    </LocationPicker>
   );
 }
 

@@ -1,7 +1,9 @@
-import { useCallback, useId, useMemo, useState } from "react";
+import { useCallback, useId, useMemo, useState, type ReactNode } from "react";
+import { Button } from "../ui/button";
 import { YardMap, type LatLng, type YardMapMarker } from "./yard-map";
 
-const HINT = "Click the map to drop the pin, drag it to adjust, or type the coordinates.";
+/** How to use the picker, shown above the map and given to it as its description. */
+export const PICKER_HINT = "Click the map to drop the pin, drag it to adjust, or type the coordinates.";
 
 function parseCoordinate(text: string, limit: number): number | null {
   if (text.trim() === "") return null;
@@ -11,8 +13,12 @@ function parseCoordinate(text: string, limit: number): number | null {
 
 const asText = (n: number) => String(Math.round(n * 1e6) / 1e6);
 
-/** A yard's location: the map in picker mode and the "Latitude" and "Longitude" inputs
- *  (form fields `lat` and `lng`), kept in sync both ways. Keyboard users type the numbers. */
+/** A saved point, or the coordinates as the user typed them (kept as sent when a form comes back with errors). */
+const initialText = (v: number | string | undefined) => (typeof v === "number" ? asText(v) : (v ?? ""));
+
+/** A place on the map: the map in picker mode and the latitude and longitude inputs (form
+ *  fields `lat` and `lng` unless `names` says otherwise), kept in sync both ways. Keyboard
+ *  users type the numbers. Used for yards, the depot and crews' start and end points. */
 export function LocationPicker({
   defaultValue = null,
   errors,
@@ -21,11 +27,18 @@ export function LocationPicker({
   markers = [],
   height = "clamp(16rem, 45vh, 24rem)",
   legend = "Yard location",
+  legendClassName = "mb-1 font-semibold",
+  names = { lat: "lat", lng: "lng" },
+  labels = { lat: "Latitude", lng: "Longitude" },
+  hint = PICKER_HINT,
+  pointName = "pin",
+  clearLabel,
   required = true,
   onChange,
+  children,
 }: {
-  /** The pin to start from (the yard's saved location, or what the user sent last). */
-  defaultValue?: LatLng | null;
+  /** The pin to start from (the saved location, or what the user sent last, as typed). */
+  defaultValue?: LatLng | { lat?: string; lng?: string } | null;
   errors?: { lat?: string; lng?: string };
   tileUrl?: string | null;
   tileAttribution?: string | null;
@@ -33,12 +46,23 @@ export function LocationPicker({
   markers?: YardMapMarker[];
   height?: string;
   legend?: string;
+  legendClassName?: string;
+  /** The form field names of the two inputs. */
+  names?: { lat: string; lng: string };
+  labels?: { lat: string; lng: string };
+  hint?: string;
+  /** What the map's accessible name calls the point: "Map with the <pointName> at …". */
+  pointName?: string;
+  /** When given, a button with this text empties both coordinates (for an optional point). */
+  clearLabel?: string;
   required?: boolean;
   onChange?: (value: LatLng | null) => void;
+  /** Fields shown between the legend and the hint, e.g. the point's name. */
+  children?: ReactNode;
 }) {
   const id = useId();
-  const [latText, setLatText] = useState(defaultValue ? asText(defaultValue.lat) : "");
-  const [lngText, setLngText] = useState(defaultValue ? asText(defaultValue.lng) : "");
+  const [latText, setLatText] = useState(initialText(defaultValue?.lat));
+  const [lngText, setLngText] = useState(initialText(defaultValue?.lng));
 
   const value = useMemo(() => {
     const lat = parseCoordinate(latText, 90);
@@ -65,17 +89,17 @@ export function LocationPicker({
     onChange?.(lat == null || lng == null ? null : { lat, lng });
   };
 
-  const field = (which: "lat" | "lng", label: string, text: string, limit: number) => {
+  const field = (which: "lat" | "lng", text: string, limit: number) => {
     const inputId = `${id}-${which}`;
     const error = errors?.[which];
     return (
       <div className="flex flex-col gap-1">
         <label htmlFor={inputId} className="font-semibold">
-          {label}
+          {labels[which]}
         </label>
         <input
           id={inputId}
-          name={which}
+          name={names[which]}
           type="number"
           inputMode="decimal"
           step="0.000001"
@@ -99,9 +123,10 @@ export function LocationPicker({
 
   return (
     <fieldset className="flex min-w-0 flex-col gap-3">
-      <legend className="mb-1 font-semibold">{legend}</legend>
+      <legend className={legendClassName}>{legend}</legend>
+      {children}
       <p id={`${id}-hint`} className="text-sm text-ink-soft">
-        {HINT}
+        {hint}
       </p>
       <YardMap
         markers={markers}
@@ -109,13 +134,27 @@ export function LocationPicker({
         height={height}
         tileUrl={tileUrl}
         tileAttribution={tileAttribution}
-        label={value ? `Map with the pin at ${value.lat}, ${value.lng}` : "Map with no pin yet"}
-        description={HINT}
+        label={value ? `Map with the ${pointName} at ${value.lat}, ${value.lng}` : `Map with no ${pointName} yet`}
+        description={hint}
       />
       <div className="grid gap-3 sm:grid-cols-2">
-        {field("lat", "Latitude", latText, 90)}
-        {field("lng", "Longitude", lngText, 180)}
+        {field("lat", latText, 90)}
+        {field("lng", lngText, 180)}
       </div>
+      {clearLabel && (latText !== "" || lngText !== "") ? (
+        <div>
+          <Button
+            variant="quiet"
+            onClick={() => {
+              setLatText("");
+              setLngText("");
+              onChange?.(null);
+            }}
+          >
+            {clearLabel}
+          </Button>
+        </div>
+      ) : null}
     </fieldset>
   );
 }

@@ -9,6 +9,7 @@ import { listCrews, overbookedDaysAhead } from "~/models/crews.server";
 import { db } from "~/services/db.server";
 import { AREA_ROLES, requireRole } from "~/services/permissions.server";
 import type { Route } from "./+types/crews";
+import { dailyLimitLines, startEndLines } from "./crew-table-text";
 
 // The business's crews with the figures the booking calendar and the day planner use.
 
@@ -58,53 +59,63 @@ export default function DispatchCrews({ loaderData }: Route.ComponentProps) {
           </ul>
         </section>
       ) : null}
+      {/* Seven columns that fit the 1280 px screen's main column (max-w-7xl less its padding):
+          related figures share a two-line cell, long headers wrap, text cells wrap. */}
       <Table
         caption="Crews"
         empty="No crews yet. Add one to open days for booking."
         head={
           <>
             <Th>Crew</Th>
-            <Th>Status</Th>
             <Th>Members</Th>
             <Th>Start → end</Th>
-            <Th>Hours</Th>
-            <Th>Weekdays</Th>
+            <Th>Days and hours</Th>
             <Th align="right">Vaporizers</Th>
-            <Th align="right">Most colonies a day</Th>
-            <Th align="right">Most grams a day</Th>
-            <Th align="right">Colonies counted a day</Th>
+            <Th align="right">Daily limits</Th>
+            <Th align="right">
+              <span className="whitespace-normal">Colonies counted a day</span>
+            </Th>
           </>
         }
       >
-        {crews.map((crew) => (
-          <tr key={crew.id} data-crew-id={crew.id}>
-            <Td>
-              <Link to={`/dispatch/crews/${crew.id}`} className={linkStyle} aria-label={`Edit ${crew.name}`}>
-                {crew.name}
-              </Link>
-            </Td>
-            <Td>
-              <span
-                className={`inline-block rounded-full border px-2 py-0.5 text-sm font-semibold ${crew.active ? "border-pine-600 bg-pine-50 text-pine-900" : "border-line bg-paper text-ink-soft"}`}
-              >
-                {crew.active ? "Active" : "Inactive"}
-              </span>
-            </Td>
-            <Td>{crew.members.length ? crew.members.map((m) => m.name).join(", ") : <span className="text-ink-soft">No members</span>}</Td>
-            <Td>{crew.endLabel === crew.startLabel ? crew.startLabel : `${crew.startLabel} → ${crew.endLabel}`}</Td>
-            <Td className="whitespace-nowrap tabular-nums">
-              {crew.workStart}–{crew.workEnd}
-            </Td>
-            <Td className="whitespace-nowrap">{crew.weekdays}</Td>
-            <Td align="right">{crew.vaporizers}</Td>
-            <Td align="right">{crew.maxColoniesPerDay ?? <span className="text-ink-soft">No limit</span>}</Td>
-            <Td align="right">{crew.maxDoseGramsPerDay != null ? `${crew.maxDoseGramsPerDay} g` : <span className="text-ink-soft">No limit</span>}</Td>
-            <Td align="right">{crew.active ? crew.estimatedColoniesPerDay : <span className="text-ink-soft">—</span>}</Td>
-          </tr>
-        ))}
+        {crews.map((crew) => {
+          const [start, end] = startEndLines(crew);
+          const [colonyLimit, gramLimit] = dailyLimitLines(crew);
+          return (
+            <tr key={crew.id} data-crew-id={crew.id}>
+              <Td>
+                <Link to={`/dispatch/crews/${crew.id}`} className={linkStyle} aria-label={`Edit ${crew.name}`}>
+                  {crew.name}
+                </Link>
+                <span
+                  className={`mt-1 block w-fit rounded-full border px-2 py-0.5 text-sm font-semibold whitespace-nowrap ${crew.active ? "border-pine-600 bg-pine-50 text-pine-900" : "border-line bg-paper text-ink-soft"}`}
+                >
+                  {crew.active ? "Active" : "Inactive"}
+                </span>
+              </Td>
+              <Td className="min-w-32">{crew.members.length ? crew.members.map((m) => m.name).join(", ") : <span className="text-ink-soft">No members</span>}</Td>
+              <Td className="min-w-40">
+                <span className="block">{start}</span>
+                {end ? <span className="block">{end}</span> : null}
+              </Td>
+              <Td>
+                <span className="block">{crew.weekdays}</span>
+                <span className="block whitespace-nowrap tabular-nums">
+                  {crew.workStart}–{crew.workEnd}
+                </span>
+              </Td>
+              <Td align="right">{crew.vaporizers}</Td>
+              <Td align="right" className="whitespace-nowrap">
+                <span className={`block ${crew.maxColoniesPerDay == null ? "text-ink-soft" : ""}`}>{colonyLimit}</span>
+                <span className={`block ${crew.maxDoseGramsPerDay == null ? "text-ink-soft" : ""}`}>{gramLimit}</span>
+              </Td>
+              <Td align="right">{crew.active ? crew.estimatedColoniesPerDay : <span className="text-ink-soft">—</span>}</Td>
+            </tr>
+          );
+        })}
       </Table>
       <p className="mt-2 text-sm text-ink-soft">
-        Colonies counted a day: what the booking calendar takes for the crew on a day it works — its working hours filled with typical yards (settings), never more than its
+        Daily limits: the most colonies, and the most grams of oxalic acid, the crew is given a day. Colonies counted a day: what the booking calendar takes for the crew on a day it works — its working hours filled with typical yards (settings), never more than its
         own limits. The day planner then routes with real drive times.
       </p>
       <SafetyCautions audience="staff" className="mt-6" />
