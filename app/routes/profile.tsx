@@ -3,6 +3,7 @@ import { data, Form, useNavigation } from "react-router";
 import type { z } from "zod";
 import { AppShell } from "~/components/app-shell";
 import { areaNavFor } from "~/components/area-nav";
+import { NewPasswordFields } from "~/components/new-password-fields";
 import { Button } from "~/components/ui/button";
 import { Card, PageHeader } from "~/components/ui/card";
 import { Field, FormMessage } from "~/components/ui/field";
@@ -203,16 +204,7 @@ export default function ProfilePage({ loaderData, actionData }: Route.ComponentP
             <input type="email" name="username" autoComplete="username" value={profile.email} readOnly hidden />
             <FormMessage tone="info" message={doneOf("password")} />
             <Field label="Current password" name="currentPassword" type="password" autoComplete="current-password" required error={password.currentPassword} />
-            <Field
-              label="New password"
-              name="password"
-              type="password"
-              autoComplete="new-password"
-              required
-              error={password.password}
-              hint="At least 10 characters, not a common password, and not your name or e-mail. You stay signed in here; every other device is signed out."
-            />
-            <Field label="New password again" name="confirm" type="password" autoComplete="new-password" required error={password.confirm} />
+            <NewPasswordFields label="New password" errors={password} advice="You stay signed in here; every other device is signed out." />
             <Button type="submit" disabled={sending === "password"}>
               {sending === "password" ? "Changing…" : "Change my password"}
             </Button>

@@ -1,14 +1,13 @@
-import { createHash, randomBytes, randomUUID } from "node:crypto";
+import { createHash, randomBytes } from "node:crypto";
 import { afterAll, beforeEach, describe, expect, it } from "vitest";
-import { deliverEmail } from "~/models/emails.server";
 import { createCustomerAccount, hashPassword, verifyCredentials } from "~/models/users.server";
 import { action as forgotAction, loader as forgotLoader } from "~/routes/public/forgot-password";
 import { action as resetAction, loader as resetLoader } from "~/routes/public/reset-password";
 import { action as signInAction } from "~/routes/public/sign-in";
 import { db } from "~/services/db.server";
 import { stopJobs } from "~/services/jobs.server";
-import { optionalUser } from "~/services/permissions.server";
 import { withPeerAddress } from "~/services/sign-in-limits.server";
+import { address, count, deliverTo, NEW_PASSWORD, outcome, PASSWORD as OLD_PASSWORD, post, whoIs } from "./account-fixtures";
 import { waitForEmail } from "./mail-sink";
 import { resetDatabase } from "./reset-database";
 
@@ -21,29 +20,6 @@ afterAll(async () => {
   await db.destroy();
 });
 beforeEach(() => resetDatabase(db));
-
-const run = randomUUID().slice(0, 8);
-let serial = 0;
-/** A fresh address for each use: the sink keeps e-mails from earlier tests and runs. */
-const address = (name: string) => `${name}.${run}.${++serial}@example.test`;
-
-const OLD_PASSWORD = "correct horse battery";
-const NEW_PASSWORD = "plum tractor lantern velvet";
-
-/** What a route module threw or returned. */
-async function outcome(run: () => unknown): Promise<unknown> {
-  try {
-    return await run();
-  } catch (thrown) {
-    return thrown;
-  }
-}
-
-function post(url: string, fields: Record<string, string>, cookie?: string) {
-  const headers: Record<string, string> = { "Content-Type": "application/x-www-form-urlencoded" };
-  if (cookie) headers.Cookie = cookie;
-  return new Request(`http://127.0.0.1${url}`, { method: "POST", headers, body: new URLSearchParams(fields) });
-}
 
 /** Sends the forgot-password form, as if from `peer` when given. */
 function forgot(email: string, options: { peer?: string; cookie?: string } = {}) {
@@ -70,22 +46,6 @@ function cookieOf(response: unknown): string {
   const header = (response as Response).headers.get("Set-Cookie");
   expect(header).toMatch(/^__varroute=/);
   return header!.split(";")[0];
-}
-
-async function whoIs(cookie: string) {
-  return optionalUser(new Request("http://127.0.0.1/", { headers: { Cookie: cookie } }));
-}
-
-async function count(table: "email_log" | "password_resets" | "sessions" | "audit_log", where: Record<string, unknown> = {}): Promise<number> {
-  const row = await db(table).where(where).count<{ n: number }[]>("* as n").first();
-  return Number(row?.n ?? 0);
-}
-
-/** Sends every e-mail queued for `to` through SMTP now (the worker watches another database). */
-async function deliverTo(to: string): Promise<number> {
-  const rows = await db("email_log").where({ to_address: to }).whereNot({ status: "sent" }).orderBy("id").select("id");
-  for (const row of rows) expect(await deliverEmail(db, row.id)).toBe("sent");
-  return rows.length;
 }
 
 const LINK = /\/reset-password\/([A-Za-z0-9_-]{43})\b/;

@@ -1,14 +1,12 @@
-import { randomUUID } from "node:crypto";
 import { afterAll, beforeEach, describe, expect, it } from "vitest";
 import { describeAuditEntry } from "~/domain/audit-descriptions";
-import { deliverEmail } from "~/models/emails.server";
 import { createCustomerAccount, hashPassword, verifyCredentials } from "~/models/users.server";
 import { loader as emailLinkLoader } from "~/routes/profile-email";
 import { action as profileAction, loader as profileLoader } from "~/routes/profile";
 import { action as signInAction } from "~/routes/public/sign-in";
 import { db } from "~/services/db.server";
 import { stopJobs } from "~/services/jobs.server";
-import { optionalUser } from "~/services/permissions.server";
+import { address, count, deliverTo, NEW_PASSWORD, outcome, PASSWORD, post, whoIs } from "./account-fixtures";
 import { waitForEmail } from "./mail-sink";
 import { resetDatabase } from "./reset-database";
 
@@ -21,27 +19,6 @@ afterAll(async () => {
   await db.destroy();
 });
 beforeEach(() => resetDatabase(db));
-
-const run = randomUUID().slice(0, 8);
-let serial = 0;
-const address = (name: string) => `${name}.${run}.${++serial}@example.test`;
-
-const PASSWORD = "correct horse battery";
-const NEW_PASSWORD = "plum tractor lantern velvet";
-
-async function outcome(run: () => unknown): Promise<unknown> {
-  try {
-    return await run();
-  } catch (thrown) {
-    return thrown;
-  }
-}
-
-function post(url: string, fields: Record<string, string>, cookie?: string) {
-  const headers: Record<string, string> = { "Content-Type": "application/x-www-form-urlencoded" };
-  if (cookie) headers.Cookie = cookie;
-  return new Request(`http://127.0.0.1${url}`, { method: "POST", headers, body: new URLSearchParams(fields) });
-}
 
 async function signIn(email: string, password = PASSWORD): Promise<string> {
   const response = await outcome(() => signInAction({ request: post("/sign-in", { email, password }), params: {}, context: {} } as never));
@@ -65,21 +42,6 @@ function openProfile(cookie?: string) {
 function followEmailLink(token: string, cookie?: string) {
   const request = new Request(`http://127.0.0.1/profile/email/${token}`, { headers: cookie ? { Cookie: cookie } : {} });
   return outcome(() => emailLinkLoader({ request, params: { token }, context: {} } as never));
-}
-
-async function whoIs(cookie: string) {
-  return optionalUser(new Request("http://127.0.0.1/", { headers: { Cookie: cookie } }));
-}
-
-async function count(table: "email_log" | "sessions" | "audit_log" | "email_changes", where: Record<string, unknown> = {}): Promise<number> {
-  const row = await db(table).where(where).count<{ n: number }[]>("* as n").first();
-  return Number(row?.n ?? 0);
-}
-
-async function deliverTo(to: string): Promise<number> {
-  const rows = await db("email_log").where({ to_address: to }).whereNot({ status: "sent" }).orderBy("id").select("id");
-  for (const row of rows) expect(await deliverEmail(db, row.id)).toBe("sent");
-  return rows.length;
 }
 
 async function customer(name = "Robin Hive") {

@@ -1,8 +1,9 @@
 import { useState } from "react";
 import { data, Form, useNavigation } from "react-router";
 import { formatInstant } from "~/components/format";
+import { NewPasswordFields } from "~/components/new-password-fields";
 import { Button } from "~/components/ui/button";
-import { Field, FormMessage } from "~/components/ui/field";
+import { FormMessage } from "~/components/ui/field";
 import { fieldErrors, formValues, type FieldErrors } from "~/forms/field-errors";
 import { acceptInvitationSchema, INVITATION_DAYS, STAFF_ROLE_DUTIES, STAFF_ROLE_NAMES } from "~/forms/staff";
 import { loadBusinessSettings } from "~/models/settings.server";
@@ -101,16 +102,7 @@ export default function Invite({ loaderData, actionData }: Route.ComponentProps)
         <FormMessage message={errors.form} />
         {/* For password managers: the account's user name. */}
         <input type="email" name="username" autoComplete="username" value={invitation.email} readOnly hidden />
-        <Field
-          label="Password"
-          name="password"
-          type="password"
-          autoComplete="new-password"
-          required
-          error={errors.password}
-          hint="At least 10 characters, not a common password, and not your name or e-mail. A few words that do not belong together work well."
-        />
-        <Field label="Password again" name="confirm" type="password" autoComplete="new-password" required error={errors.confirm} />
+        <NewPasswordFields errors={errors} />
         <Button type="submit" disabled={busy}>
           {busy ? "Making your account…" : "Set password and sign in"}
         </Button>

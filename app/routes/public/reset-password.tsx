@@ -1,7 +1,7 @@
 import { useState } from "react";
 import { data, Form, Link, useNavigation } from "react-router";
+import { NewPasswordFields } from "~/components/new-password-fields";
 import { Button } from "~/components/ui/button";
-import { Field } from "~/components/ui/field";
 import { fieldErrors, formValues, type FieldErrors } from "~/forms/field-errors";
 import { passwordResetSchema, RESET_LINK_MINUTES } from "~/forms/profile";
 import { findPasswordReset, resetPassword } from "~/models/password-resets.server";
@@ -88,16 +88,7 @@ export default function ResetPassword({ loaderData, actionData }: Route.Componen
       >
         {/* The account's address, for password managers to file the new password under. */}
         <input type="email" name="username" autoComplete="username" value={loaderData.email} readOnly hidden />
-        <Field
-          label="New password"
-          name="password"
-          type="password"
-          autoComplete="new-password"
-          required
-          error={errors.password}
-          hint="At least 10 characters, not a common password, and not your name or e-mail. A few words that do not belong together work well."
-        />
-        <Field label="New password again" name="confirm" type="password" autoComplete="new-password" required error={errors.confirm} />
+        <NewPasswordFields label="New password" errors={errors} />
         <Button type="submit" disabled={busy}>
           {busy ? "Saving…" : "Set the new password"}
         </Button>

@@ -1,5 +1,6 @@
 import { useState } from "react";
 import { data, Form, Link, useNavigation } from "react-router";
+import { NewPasswordFields } from "~/components/new-password-fields";
 import { Button } from "~/components/ui/button";
 import { Field } from "~/components/ui/field";
 import { signUpSchema } from "~/forms/account";
@@ -59,16 +60,7 @@ export default function SignUp({ actionData }: Route.ComponentProps) {
         <Field label="Your name" name="name" autoComplete="name" required defaultValue={kept?.name} error={errors.name} />
         <Field label="E-mail" name="email" type="email" autoComplete="email" required defaultValue={kept?.email} error={errors.email} />
         <Field label="Phone (optional)" name="phone" type="tel" autoComplete="tel" defaultValue={kept?.phone} error={errors.phone} hint="The crew calls this number if they cannot find the yard." />
-        <Field
-          label="Password"
-          name="password"
-          type="password"
-          autoComplete="new-password"
-          required
-          error={errors.password}
-          hint="At least 10 characters, not a common password, and not your name or e-mail. A few words that do not belong together work well."
-        />
-        <Field label="Password again" name="confirm" type="password" autoComplete="new-password" required error={errors.confirm} />
+        <NewPasswordFields errors={errors} />
         <Button type="submit" disabled={busy}>
           {busy ? "Signing up…" : "Create account"}
         </Button>
