@@ -2,7 +2,8 @@ import { DEMO, expect, queryTestDatabase, signIn, sinkEmailsTo, test } from "./f
 
 // What the crew finds at the hive: the air temperature (warned about outside the business's
 // band), a colony with more boxes than on record, and brood in a colony booked as broodless —
-// which adds the rounds with brood to the course and tells the customer.
+// which adds the rounds with brood to the course and tells the customer; and a colony at the
+// season's cap on applications, which the crew cannot tally treated.
 
 test.use({ viewport: { width: 390, height: 844 } });
 
@@ -90,4 +91,67 @@ test("the crew records a cold morning, corrects a colony's boxes, finds brood in
       { timeout: 30_000, message: "the visit report tells the customer about the rounds added" },
     )
     .toBe(true);
+});
+
+test("a colony treated the season's most times cannot be tallied treated: the crew sees why and skips it", async ({ page }) => {
+  const stops = await queryTestDatabase<{ visit_id: number; yard_id: number; yard_name: string; status: string; colonies: number }>(
+    `select v.id as visit_id, y.id as yard_id, y.name as yard_name, v.status,
+            (select count(*)::int from colonies col where col.yard_id = y.id and col.active) as colonies
+       from runs r join crew_members cm on cm.crew_id = r.crew_id join users u on u.id = cm.user_id
+       join stops s on s.run_id = r.id join visits v on v.id = s.visit_id join yards y on y.id = v.yard_id
+      where u.email = $1 and r.status in ('published', 'in_progress') and r.service_date = (now() at time zone 'America/New_York')::date
+      order by s.position`,
+    [DEMO.crew],
+  );
+  const stop = stops.filter((s) => s.status !== "done" && s.colonies >= 1).at(-1);
+  expect(stop, "a stop still to treat on the demo crew's run today").toBeTruthy();
+  const number = stops.indexOf(stop!) + 1;
+  const [colony] = await queryTestDatabase<{ id: number; label: string }>("select id, label from colonies where yard_id = $1 and active order by length(label), label limit 1", [stop!.yard_id]);
+  const [{ cap }] = await queryTestDatabase<{ cap: number }>("select coalesce((value->>'maxApplicationsPerColonyPerSeason')::int, 4) as cap from settings where key = 'business'");
+  // Set-up: an earlier course this year treated this colony the season's most times (dates
+  // kept inside the calendar year, the season the cap counts in).
+  const [earlier] = await queryTestDatabase<{ id: number }>(
+    "insert into courses (yard_id, brood_status, rounds_planned, interval_days, status) values ($1, 'brood', $2, 7, 'complete') returning id",
+    [stop!.yard_id, cap],
+  );
+  try {
+    await queryTestDatabase(
+      `with today as (select (now() at time zone 'America/New_York')::date as d),
+            v as (insert into visits (course_id, yard_id, round_number, service_date, status, colonies_expected)
+                  select $1::bigint, $2::bigint, g, greatest(date_trunc('year', today.d)::date, today.d - 7 * ($3::int + 1 - g)), 'done', 1 from today, generate_series(1, $3::int) g
+                  returning id)
+       insert into tallies (visit_id, colony_id, colony_label, outcome, brood_boxes, dose_grams) select v.id, $4::bigint, $5::text, 'treated', 1, 1 from v`,
+      [earlier.id, stop!.yard_id, cap, colony.id, colony.label],
+    );
+
+    await signIn(page, DEMO.crew);
+    await expect(page).toHaveURL(/\/crew$/);
+    if (await page.getByRole("heading", { name: "Safety check before the first stop" }).isVisible()) {
+      for (const item of ["Respirator", "Sealed eye protection", "Acid-resistant gloves", "Vaporizer checked"]) await page.getByLabel(new RegExp(item)).check();
+      await page.getByRole("button", { name: "Start the run" }).click();
+    }
+    await page.getByRole("button", { name: new RegExp(`Stop ${number}: ${stop!.yard_name}`) }).click();
+    const supers = page.getByRole("button", { name: "Supers are off — start treating" });
+    if (await supers.isVisible()) await supers.click();
+
+    const row = page.getByRole("list", { name: "Colonies to tally" }).locator(`:scope > li[data-colony="${colony.label}"]`);
+    await expect(row.getByText(`Applications this season before today: ${cap} of ${cap}`)).toBeVisible();
+    await expect(row.getByText(/has had the most applications the business allows this season/)).toBeVisible();
+    await expect(row.getByRole("button", { name: /^Treated/ })).toBeDisabled();
+    await page.screenshot({ path: "test-results/screenshots/crew-season-cap-390.png", fullPage: true });
+
+    await row.getByRole("button", { name: /^Skipped/ }).click();
+    await row.getByLabel("Why skipped").selectOption("other");
+    await row.getByLabel("What was wrong").fill("Season's applications used up");
+    await row.getByLabel("What was wrong").blur();
+    await expect(row.getByText("Skipped: Other")).toBeVisible();
+    await expect(page.getByTestId("sync-status")).toHaveText(/All work sent/, { timeout: 30_000 });
+    const [tally] = await queryTestDatabase<{ outcome: string; skip_note: string }>("select outcome, skip_note from tallies where visit_id = $1 and colony_label = $2", [stop!.visit_id, colony.label]);
+    expect(tally).toEqual({ outcome: "skipped", skip_note: "Season's applications used up" });
+  } finally {
+    // Leave the demo as it was for the journeys after this one.
+    await queryTestDatabase("delete from tallies where visit_id in (select id from visits where course_id = $1)", [earlier.id]);
+    await queryTestDatabase("delete from visits where course_id = $1", [earlier.id]);
+    await queryTestDatabase("delete from courses where id = $1", [earlier.id]);
+  }
 });

@@ -3,6 +3,7 @@ import { BOX_TYPE_LABELS, doseAssumption, doseGramsForColonyOfType } from "~/dom
 import { doseRatesAboveLabel } from "~/domain/settings";
 import type { FieldRun, FieldStop, FieldTally, SkipReason } from "~/components/crew/field-types";
 import { formatClock } from "~/components/format";
+import { treatedBeforeVisits } from "./season-applications.server";
 import { loadBusinessSettings } from "./settings.server";
 
 /** Everything the crew's phone needs for one run, in a few queries: stops, colonies with
@@ -44,21 +45,12 @@ export async function crewFieldRun(db: Knex, crewId: number | string, serviceDat
     );
   const yardIds = stops.map((s) => s.yardId);
   const visitIds = stops.map((s) => s.visitId);
-  const year = Number(String(run.serviceDate).slice(0, 4));
-  const [colonies, tallies, photos, applications, roundsAdded, nextRounds] = await Promise.all([
+  const [colonies, tallies, photos, applied, roundsAdded, nextRounds] = await Promise.all([
     db("colonies").whereIn("yard_id", yardIds).where({ active: true }).orderByRaw("length(label), label").select("id", "yard_id", "label", "brood_boxes", "box_type"),
     db("tallies").whereIn("visit_id", visitIds).select("visit_id", "colony_label", "outcome", "skip_reason", "skip_note", "mites", "bees_sampled", "wash_sample_ml", "bees_estimated", "notes", "brood_seen"),
     db("attachments").whereIn("yard_id", yardIds).orderBy("id").select("id", "yard_id"),
-    // Treated tallies per colony in the run's calendar year: the season the cap counts in.
-    db("tallies")
-      .join("visits", "visits.id", "tallies.visit_id")
-      .whereIn("visits.yard_id", yardIds)
-      .where("tallies.outcome", "treated")
-      .whereNotNull("tallies.colony_id")
-      .where("visits.service_date", ">=", `${year}-01-01`)
-      .where("visits.service_date", "<=", `${year}-12-31`)
-      .groupBy("tallies.colony_id")
-      .select("tallies.colony_id", db.raw("count(*)::int as n")) as unknown as Promise<{ colony_id: string | number; n: number }[]>,
+    // Treated tallies per colony in the run's calendar year, before today's visits: the cap counts them.
+    treatedBeforeVisits(db, { yardIds, serviceDate: String(run.serviceDate), visitIds }),
     // Rounds added when a visit found brood in a course planned broodless (finishVisit audits it).
     db("audit_log")
       .where({ action: "course.rounds_added", entity_type: "course" })
@@ -74,7 +66,6 @@ export async function crewFieldRun(db: Knex, crewId: number | string, serviceDat
     const after = row.after as { visitId?: unknown; roundsAdded?: unknown };
     addedAt.set(Number(after.visitId), Number(after.roundsAdded ?? 0));
   }
-  const applied = new Map(applications.map((a) => [Number(a.colony_id), Number(a.n)]));
   const fieldStops: FieldStop[] = stops.map((s) => ({
     visitId: s.visitId,
     position: s.position,
@@ -98,7 +89,7 @@ export async function crewFieldRun(db: Knex, crewId: number | string, serviceDat
         boxType: c.box_type,
         boxTypeLabel: BOX_TYPE_LABELS[c.box_type],
         doseAssumption: doseAssumption({ broodBoxes: c.brood_boxes, boxType: c.box_type, rates: settings, loadGrams: settings.vaporizerLoadGrams }),
-        applicationsThisSeason: applied.get(Number(c.id)) ?? 0,
+        applicationsBefore: applied.get(Number(c.id)) ?? 0,
         applicationCap: settings.maxApplicationsPerColonyPerSeason,
       })),
     airTempC: s.air_temp_c === null || s.air_temp_c === undefined ? null : Number(s.air_temp_c),

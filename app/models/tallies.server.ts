@@ -27,6 +27,7 @@ import { dateInZone } from "~/services/clock.server";
 import { serverEnv } from "~/services/env.server";
 import { requestEmailDelivery } from "~/services/jobs.server";
 import { lockDayForColonies } from "./capacity.server";
+import { treatedBeforeVisits, treatedThisSeason } from "./season-applications.server";
 import { queueEmail } from "./emails.server";
 import { requestInvoiceEmail } from "./invoice-mail.server";
 import { createInvoiceForVisit } from "./invoices-create.server";
@@ -637,30 +638,6 @@ async function recordTallyTx(trx: Knex.Transaction, input: TallyInput, now: Date
   }
   await recordAppliedChange(trx, { key, crewId: access.crewId, kind: "tally", visitId: access.visitId, userId, result });
   return result;
-}
-
-/** The calendar year of a service day ("2026-11-10" → 2026): the season the cap counts in. */
-function seasonYear(serviceDate: string): number {
-  return Number(serviceDate.slice(0, 4));
-}
-
-/**
- * Treated tallies of a colony (by id, at this yard) in the service day's calendar year, leaving
- * out one visit's (the visit being recorded: re-recording a colony there is a change, not a
- * new application).
- */
-async function treatedThisSeason(db: Knex, input: { yardId: number; colonyId: number; serviceDate: string; exceptVisitId?: number }): Promise<number> {
-  const year = seasonYear(input.serviceDate);
-  const query = db("tallies")
-    .join("visits", "visits.id", "tallies.visit_id")
-    .where("tallies.colony_id", input.colonyId)
-    .where("tallies.outcome", "treated")
-    .where("visits.yard_id", input.yardId)
-    .where("visits.service_date", ">=", `${year}-01-01`)
-    .where("visits.service_date", "<=", `${year}-12-31`);
-  if (input.exceptVisitId !== undefined) query.whereNot("tallies.visit_id", input.exceptVisitId);
-  const row = await query.count<{ n: string }[]>({ n: "tallies.id" }).first();
-  return Number(row?.n ?? 0);
 }
 
 /**
@@ -1285,8 +1262,8 @@ export type StopColony = {
   doseGrams: number;
   /** How the dose was worked out: boxes × rate, and the vaporizer loads it takes. */
   doseAssumption: string;
-  /** Treated tallies this calendar year (this visit's included) and the season's cap. */
-  applicationsThisSeason: number;
+  /** Treated tallies this calendar year before this visit, and the season's cap. */
+  applicationsBefore: number;
   applicationCap: number;
   tally: TallyView | null;
 };
@@ -1330,8 +1307,7 @@ export type StopDetail = {
 export async function crewStopDetail(db: Knex, input: { visitId: number | string; crewId: number | string }): Promise<StopDetail> {
   const access = await stopAccess(db, input.visitId, input.crewId, false);
   const settings = await loadBusinessSettings(db);
-  const year = seasonYear(access.serviceDate);
-  const [visit, stop, colonies, tallies, photos, applications] = await oneByOne([
+  const [visit, stop, colonies, tallies, photos, applied] = await oneByOne([
     db("visits")
       .join("yards", "yards.id", "visits.yard_id")
       .join("customers", "customers.id", "yards.customer_id")
@@ -1358,17 +1334,8 @@ export async function crewStopDetail(db: Knex, input: { visitId: number | string
       .where((q) => q.where({ yard_id: access.yardId }).orWhere({ visit_id: access.visitId }))
       .orderBy("id")
       .select("id"),
-    db("tallies")
-      .join("visits", "visits.id", "tallies.visit_id")
-      .where("visits.yard_id", access.yardId)
-      .where("tallies.outcome", "treated")
-      .whereNotNull("tallies.colony_id")
-      .where("visits.service_date", ">=", `${year}-01-01`)
-      .where("visits.service_date", "<=", `${year}-12-31`)
-      .groupBy("tallies.colony_id")
-      .select("tallies.colony_id", db.raw("count(*)::int as n")) as unknown as Promise<{ colony_id: string | number; n: number }[]>,
+    treatedBeforeVisits(db, { yardIds: [access.yardId], serviceDate: access.serviceDate, visitIds: [access.visitId] }),
   ]);
-  const applied = new Map(applications.map((a) => [Number(a.colony_id), Number(a.n)]));
   const views = new Map(tallies.map((t) => [t.colony_label, tallyView(t, access.serviceDate, settings)]));
   const rows: StopColony[] = colonies.map((c) => ({
     label: c.label,
@@ -1377,7 +1344,7 @@ export async function crewStopDetail(db: Knex, input: { visitId: number | string
     boxTypeLabel: BOX_TYPE_LABELS[c.box_type],
     doseGrams: doseGramsForColonyOfType(c.brood_boxes, c.box_type, settings),
     doseAssumption: doseAssumption({ broodBoxes: c.brood_boxes, boxType: c.box_type, rates: settings, loadGrams: settings.vaporizerLoadGrams }),
-    applicationsThisSeason: applied.get(Number(c.id)) ?? 0,
+    applicationsBefore: applied.get(Number(c.id)) ?? 0,
     applicationCap: settings.maxApplicationsPerColonyPerSeason,
     tally: views.get(c.label) ?? null,
   }));

@@ -1,4 +1,5 @@
 import { afterAll, beforeEach, describe, expect, it } from "vitest";
+import { crewFieldRun } from "~/models/crew-field.server";
 import { applySyncBatch, confirmRunSafetyCheck, confirmSupersOff, crewStopDetail, recordTally, TallyRefused } from "~/models/tallies.server";
 import { db } from "~/services/db.server";
 import { stopJobs } from "~/services/jobs.server";
@@ -101,14 +102,19 @@ describe("the season's cap on applications per colony", () => {
     expect(await db("tallies").where({ visit_id: stop.visitId })).toHaveLength(0);
     // Skipping the colony is still recorded.
     await expect(treat("H1", { outcome: "skipped", skipReason: "other", skipNote: "Cap reached" })).resolves.toMatchObject({ outcome: "skipped" });
+    // The crew's phone sees it at the cap before tapping: 4 earlier of 4.
+    const run = await crewFieldRun(db, crew.id, DATE);
+    const colony = run!.stops.find((s) => s.visitId === stop.visitId)!.colonies.find((c) => c.label === "H1");
+    expect(colony).toMatchObject({ applicationsBefore: 4, applicationCap: 4 });
   });
 
   it("allows the fourth, and does not count last year's treatments", async () => {
     await treatedBefore("H1", ["2025-10-01", "2026-04-01", "2026-05-01", "2026-09-01"]);
     await expect(treat("H1")).resolves.toMatchObject({ outcome: "treated", doseGrams: 2 });
     const detail = await crewStopDetail(db, { visitId: stop.visitId, crewId: crew.id });
-    expect(detail.colonies.find((c) => c.label === "H1")).toMatchObject({ applicationsThisSeason: 4, applicationCap: 4 });
-    expect(detail.colonies.find((c) => c.label === "H2")).toMatchObject({ applicationsThisSeason: 0 });
+    // This visit's own treatment is left out: 3 earlier this year, last year's not counted.
+    expect(detail.colonies.find((c) => c.label === "H1")).toMatchObject({ applicationsBefore: 3, applicationCap: 4 });
+    expect(detail.colonies.find((c) => c.label === "H2")).toMatchObject({ applicationsBefore: 0 });
   });
 
   it("lets the crew re-record a colony at the same visit once it is at the cap", async () => {

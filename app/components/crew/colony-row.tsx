@@ -139,6 +139,8 @@ export function ColonyRow({
   const washBees = tally?.beesSampled ?? estimatedBees;
   const assessment = tally?.mites != null && washBees != null && washBees > 0 ? assessMiteLoad(tally.mites, washBees, serviceDate, settings.miteThresholds) : null;
   const halfCupMl = roundTo(HALF_US_CUP_ML, 1);
+  // The server refuses one more treated tally too; this keeps the crew from tapping it.
+  const atSeasonCap = colony.applicationCap !== undefined && colony.applicationsBefore !== undefined && colony.applicationsBefore >= colony.applicationCap;
   return (
     <li className={`rounded-xl border-2 p-3 ${tally ? (tally.outcome === "treated" ? "border-pine-700 bg-pine-50" : "border-ochre-500 bg-ochre-100") : "border-line bg-card"}`} data-colony={colony.label}>
       <div className="flex flex-wrap items-center justify-between gap-2">
@@ -156,15 +158,15 @@ export function ColonyRow({
           {colony.doseAssumption ?? null}
         </p>
       ) : null}
-      {colony.applicationCap !== undefined && colony.applicationsThisSeason !== undefined ? (
-        <p className={colony.applicationsThisSeason >= colony.applicationCap ? "font-semibold text-alarm-700" : "text-ink-soft"}>
-          Applications this season: {colony.applicationsThisSeason} of {colony.applicationCap}
+      {colony.applicationCap !== undefined && colony.applicationsBefore !== undefined ? (
+        <p className={atSeasonCap ? "font-semibold text-alarm-700" : "text-ink-soft"}>
+          Applications this season before today: {colony.applicationsBefore} of {colony.applicationCap}
         </p>
       ) : null}
       <div className="mt-2 grid grid-cols-2 gap-2">
         <button
           type="button"
-          disabled={locked}
+          disabled={locked || (atSeasonCap && tally?.outcome !== "treated")}
           aria-pressed={tally?.outcome === "treated"}
           onClick={() => {
             setSkipping(false);
@@ -185,6 +187,11 @@ export function ColonyRow({
         </button>
       </div>
       {locked && lockedReason ? <p className="mt-1 text-sm font-semibold text-alarm-700">{lockedReason}</p> : null}
+      {atSeasonCap && tally?.outcome !== "treated" ? (
+        <p className="mt-1 font-semibold text-alarm-700">
+          {colony.label} has had the most applications the business allows this season. Skip it (reason Other) and tell the office.
+        </p>
+      ) : null}
       {showSkip ? (
         <div className="mt-2 flex flex-col gap-1">
           <label htmlFor={`reason-${colony.label}`} className="font-semibold">

@@ -20,8 +20,8 @@ export type FieldColony = {
   boxType?: "deep" | "medium" | "nuc";
   boxTypeLabel?: string;
   doseAssumption?: string;
-  /** Treated tallies this calendar year (this visit's included) and the season's cap. */
-  applicationsThisSeason?: number;
+  /** Treated tallies this calendar year before this visit, and the season's cap. */
+  applicationsBefore?: number;
   applicationCap?: number;
 };
 
