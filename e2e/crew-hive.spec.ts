@@ -150,8 +150,66 @@ test("a colony treated the season's most times cannot be tallied treated: the cr
     expect(tally).toEqual({ outcome: "skipped", skip_note: "Season's applications used up" });
   } finally {
     // Leave the demo as it was for the journeys after this one.
+    await queryTestDatabase("delete from tallies where visit_id = $1", [stop!.visit_id]);
     await queryTestDatabase("delete from tallies where visit_id in (select id from visits where course_id = $1)", [earlier.id]);
     await queryTestDatabase("delete from visits where course_id = $1", [earlier.id]);
     await queryTestDatabase("delete from courses where id = $1", [earlier.id]);
+  }
+});
+
+test("the crew counts a wash by the half-cup scoop: the bees are estimated from the business's figure and the load read against the threshold", async ({ page }) => {
+  const stops = await queryTestDatabase<{ visit_id: number; yard_id: number; yard_name: string; status: string; colonies: number }>(
+    `select v.id as visit_id, y.id as yard_id, y.name as yard_name, v.status,
+            (select count(*)::int from colonies col where col.yard_id = y.id and col.active) as colonies
+       from runs r join crew_members cm on cm.crew_id = r.crew_id join users u on u.id = cm.user_id
+       join stops s on s.run_id = r.id join visits v on v.id = s.visit_id join yards y on y.id = v.yard_id
+      where u.email = $1 and r.status in ('published', 'in_progress') and r.service_date = (now() at time zone 'America/New_York')::date
+      order by s.position`,
+    [DEMO.crew],
+  );
+  const stop = stops.filter((s) => s.status !== "done" && s.colonies >= 1).at(-1);
+  expect(stop, "a stop still to treat on the demo crew's run today").toBeTruthy();
+  const number = stops.indexOf(stop!) + 1;
+  const [colony] = await queryTestDatabase<{ label: string }>("select label from colonies where yard_id = $1 and active order by length(label) desc, label desc limit 1", [stop!.yard_id]);
+  try {
+    await signIn(page, DEMO.crew);
+    await expect(page).toHaveURL(/\/crew$/);
+    if (await page.getByRole("heading", { name: "Safety check before the first stop" }).isVisible()) {
+      for (const item of ["Respirator", "Sealed eye protection", "Acid-resistant gloves", "Vaporizer checked"]) await page.getByLabel(new RegExp(item)).check();
+      await page.getByRole("button", { name: "Start the run" }).click();
+    }
+    await page.getByRole("button", { name: new RegExp(`Stop ${number}: ${stop!.yard_name}`) }).click();
+    const supers = page.getByRole("button", { name: "Supers are off — start treating" });
+    if (await supers.isVisible()) await supers.click();
+
+    const row = page.getByRole("list", { name: "Colonies to tally" }).locator(`:scope > li[data-colony="${colony.label}"]`);
+    await row.getByRole("button", { name: /^Treated/ }).click();
+    await expect(row.getByText("Treated ✓")).toBeVisible();
+    await row.getByRole("button", { name: /Add wash count/ }).click();
+    await row.getByLabel("Mites counted").fill("9");
+    // The usual scoop: half a US cup, 118.3 mL. // Source: NIST Handbook 44 (1 US cup = 236.6 mL)
+    await row.getByRole("button", { name: /^Half cup \(118\.3 mL\)$/ }).click();
+    const estimate = row.getByText(/^About \d+ bees, estimated from 118\.3 mL at \d+ bees per 100 mL \(settings\)\.$/);
+    await expect(estimate).toBeVisible();
+    const bees = Number(/^About (\d+)/.exec((await estimate.textContent()) ?? "")![1]);
+    // Source: Lee et al. 2010 (about 300 bees in half a cup) and Mississippi State University
+    // Extension (about 400): the estimate lies in that range at any figure the guides give.
+    expect(bees).toBeGreaterThanOrEqual(300);
+    expect(bees).toBeLessThanOrEqual(400);
+    const verdict = row.getByRole("status").filter({ hasText: /mites per 100 bees \(bees estimated\)/ });
+    await expect(verdict).toHaveText(/^\d+\.\d mites per 100 bees \(bees estimated\) — (below|at|above) the threshold of \d+(\.\d+)?$/);
+    // 9 mites in that many bees, to the 0.1 the screen shows.
+    await expect(verdict).toContainText(`${(Math.round((900 / bees) * 10) / 10).toFixed(1)} mites per 100 bees`);
+    await page.screenshot({ path: "test-results/screenshots/crew-wash-by-volume-390.png", fullPage: true });
+    await expect(page.getByTestId("sync-status")).toHaveText(/All work sent/, { timeout: 30_000 });
+
+    const [tally] = await queryTestDatabase<{ mites: number; bees_sampled: number; wash_sample_ml: string; bees_estimated: boolean }>(
+      "select mites, bees_sampled, wash_sample_ml::text, bees_estimated from tallies where visit_id = $1 and colony_label = $2",
+      [stop!.visit_id, colony.label],
+    );
+    expect(tally).toEqual({ mites: 9, bees_sampled: bees, wash_sample_ml: "118.3", bees_estimated: true });
+  } finally {
+    // Leave the demo as it was for the journeys after this one.
+    await queryTestDatabase("delete from tallies where visit_id = $1", [stop!.visit_id]);
   }
 });

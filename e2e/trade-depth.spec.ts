@@ -3,7 +3,7 @@ import { DEMO, DEMO_PASSWORD, expect, queryTestDatabase, signIn, signOut, test }
 // What the trade asks of the records and the plans: box types on a customer's yard, and a
 // deleted customer's treatment records kept for the business's retention period.
 
-test("a customer puts a yard of medium boxes on the map and its plan doses it at the medium rate", async ({ page }) => {
+test("a customer puts a yard of medium boxes on the map (0 brood boxes refused) and its plan doses it at the medium rate", async ({ page }) => {
   const tag = Date.now() % 100000;
   await signIn(page, DEMO.customer);
   await page.goto("/portal/yards/new");
@@ -11,10 +11,17 @@ test("a customer puts a yard of medium boxes on the map and its plan doses it at
   await page.getByLabel("Latitude").fill("42.4712");
   await page.getByLabel("Longitude").fill("-76.4415");
   await page.getByLabel("Colonies (hives) to treat").fill("3");
-  await page.getByLabel("Brood boxes per colony").fill("2");
+  // A living colony has at least one brood box: 0 is refused at its field, nothing saved.
+  await page.getByLabel("Brood boxes per colony").fill("0");
   await page.getByRole("radio", { name: /^Medium/ }).check();
   await page.getByLabel("Broodless").check();
   await page.getByLabel("Honey supers are off").check();
+  await page.getByRole("button", { name: "Save the yard" }).click();
+  await expect(page.getByLabel("Brood boxes per colony")).toHaveAttribute("aria-invalid", "true");
+  await expect(page.getByText("A living colony has at least one brood box.")).toBeVisible();
+  expect(await queryTestDatabase("select id from yards where name = $1", [`Medium row ${tag}`])).toEqual([]);
+  await page.getByLabel("Brood boxes per colony").fill("2");
+  await page.getByRole("radio", { name: /^Medium/ }).check();
   await page.getByRole("button", { name: "Save the yard" }).click();
   await expect(page).toHaveURL(/\/portal\/yards\/\d+\/edit\?created=1$/);
   const yardId = Number(new URL(page.url()).pathname.split("/")[3]);
