@@ -164,6 +164,10 @@ test("a new business: the first visit leads to setup, which makes the owner and 
   await page.getByLabel("Registration number").fill("TEST-REG-0001");
   await page.getByLabel("Label maximum per brood box").fill("1");
   await page.getByLabel("Dose per deep brood box", { exact: true }).fill("1");
+  // Only the deep box's rate is asked; the page says what medium and nuc boxes get meanwhile.
+  const shares = page.getByText(/^Medium boxes get \d+ % and nuc boxes \d+ % of the deep box's dose until you set their own rates under Settings\.$/);
+  await expect(shares).toBeVisible();
+  const [mediumShare, nucShare] = [...((await shares.textContent()) ?? "").matchAll(/(\d+) %/g)].map((m) => Number(m[1]));
   await page.getByLabel("Price per colony").fill("12.50");
   await page.getByLabel("Trip fee per yard").fill("30");
   await page.getByLabel("Tax rate").fill("0");
@@ -172,6 +176,11 @@ test("a new business: the first visit leads to setup, which makes the owner and 
   await page.waitForURL((url) => url.pathname === "/dispatch");
   await expect(page.getByRole("heading", { name: "Days ahead" })).toBeVisible();
   await page.screenshot({ path: "test-results/screenshots/first-run-dispatch-390.png", fullPage: true });
+
+  // Medium and nuc rates: their share of the 1 g deep rate, as the setup page said.
+  await page.goto(`${APP}/dispatch/settings`);
+  await expect(page.getByLabel("Dose per medium brood box")).toHaveValue(String(mediumShare / 100));
+  await expect(page.getByLabel("Dose per nuc box")).toHaveValue(String(nucShare / 100));
 
   // The first crew starts from the depot; the setup page is gone.
   await page.goto(`${APP}/dispatch/crews`);

@@ -7,7 +7,7 @@ import { Button } from "~/components/ui/button";
 import { Card } from "~/components/ui/card";
 import { Field, FormMessage } from "~/components/ui/field";
 import { weekdaysLabel } from "~/domain/capacity";
-import { settingsFieldInfo } from "~/domain/settings";
+import { defaultBusinessSettings, settingsFieldInfo } from "~/domain/settings";
 import { NEW_CREW_VALUES } from "~/forms/crew";
 import { formValues, type FieldErrors } from "~/forms/field-errors";
 import { FIRST_CREW_NAME, parseSetupForm, SETUP_WELCOME_PARAM, setupFormDefaults, setupFormValuesFrom } from "~/forms/setup";
@@ -197,6 +197,10 @@ export default function Setup({ loaderData, actionData }: Route.ComponentProps) 
               {setting("productRegistrationNumber", { kind: "text" })}
               {setting("labelMaximumGramsPerBroodBox")}
               {setting("doseGramsPerBroodBox")}
+              <p className="mt-2 text-ink-soft">
+                Medium boxes get {Math.round((defaultBusinessSettings.doseGramsPerMediumBox / defaultBusinessSettings.doseGramsPerBroodBox) * 100)} % and nuc boxes{" "}
+                {Math.round((defaultBusinessSettings.doseGramsPerNucBox / defaultBusinessSettings.doseGramsPerBroodBox) * 100)} % of the deep box&apos;s dose until you set their own rates under Settings.
+              </p>
             </div>
             <SafetyCautions audience="staff" />
           </div>
