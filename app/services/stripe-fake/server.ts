@@ -94,7 +94,10 @@ export type FakeEvent = {
 export type StripeFakeOptions = {
   /** 0 picks a free port. */
   port?: number;
+  /** The address it listens on (127.0.0.1 unless a container needs 0.0.0.0). */
   host?: string;
+  /** How a browser reaches it, for checkout page links; defaults to http://host:port. */
+  publicUrl?: string;
   webhookSecret: string;
   /** Where events are POSTed; null keeps them in `events` only (tests deliver them). */
   webhookUrl: string | null;
@@ -563,7 +566,7 @@ ${session.cancel_url ? `<p><a href="${escapeHtml(session.cancel_url)}">Cancel</a
     server.listen(options.port ?? 0, host, () => resolve());
   });
   const port = (server.address() as AddressInfo).port;
-  baseUrl = `http://${host}:${port}`;
+  baseUrl = options.publicUrl?.replace(/\/+$/, "") || `http://${host}:${port}`;
 
   return {
     url: baseUrl,
