@@ -1,4 +1,4 @@
-import { useEffect, useRef, useState, type FormEvent, type ReactNode } from "react";
+import { useEffect, useRef, useState, type ReactNode } from "react";
 import { data, Form, useNavigation } from "react-router";
 import type { z } from "zod";
 import { AppShell } from "~/components/app-shell";
@@ -8,6 +8,7 @@ import { Button } from "~/components/ui/button";
 import { Card, PageHeader } from "~/components/ui/card";
 import { Field, FormMessage } from "~/components/ui/field";
 import { roleName } from "~/domain/audit-descriptions";
+import { checkBeforeSending } from "~/forms/check-before-sending";
 import { fieldErrors, formValues, type FieldErrors } from "~/forms/field-errors";
 import { emailChangeSchema, passwordChangeSchema, profileDetailsSchema, profileIntentOf, type ProfileIntent } from "~/forms/profile";
 import { changePassword, EMAIL_CHANGE_LINK_HOURS, loadProfile, requestEmailChange, updateProfileDetails } from "~/models/profile.server";
@@ -104,17 +105,6 @@ export async function action({ request }: Route.ActionArgs) {
     }
   }
   return refuse({ form: "Send one of the forms on this page." });
-}
-
-/** Client-side check with the form's schema: stops the post and shows messages when it fails. */
-function checkBeforeSending(schema: z.ZodType, setErrors: (errors: FieldErrors | null) => void) {
-  return (event: FormEvent<HTMLFormElement>) => {
-    const parsed = schema.safeParse(formValues(new FormData(event.currentTarget)));
-    if (!parsed.success) {
-      event.preventDefault();
-      setErrors(fieldErrors(parsed.error));
-    } else setErrors(null);
-  };
 }
 
 function Section({ title, children }: { title: string; children: ReactNode }) {

@@ -6,6 +6,7 @@ import { Button } from "~/components/ui/button";
 import { Card, PageHeader } from "~/components/ui/card";
 import { Field, FormMessage } from "~/components/ui/field";
 import { Table, Td, Th } from "~/components/ui/table";
+import { checkBeforeSending } from "~/forms/check-before-sending";
 import { fieldErrors, formValues, type FieldErrors } from "~/forms/field-errors";
 import {
   inviteStaffSchema,
@@ -172,13 +173,7 @@ function InviteForm({ crews, result }: { crews: { id: number; name: string }[]; 
         // A fresh, empty form after each invitation sent.
         key={mine?.ok ? mine.message : "invite"}
         className="grid gap-4 sm:grid-cols-2"
-        onSubmit={(event) => {
-          const parsed = inviteStaffSchema.safeParse(formValues(new FormData(event.currentTarget)));
-          if (!parsed.success) {
-            event.preventDefault();
-            setClientErrors(fieldErrors(parsed.error));
-          } else setClientErrors(null);
-        }}
+        onSubmit={checkBeforeSending(inviteStaffSchema, setClientErrors)}
       >
         <input type="hidden" name="intent" value="invite" />
         <Field label="Name" name="name" autoComplete="off" required defaultValue={kept?.name} error={errors.name} />

@@ -2,6 +2,7 @@ import { useState } from "react";
 import { data, Form, Link, redirect, useNavigation } from "react-router";
 import { Button } from "~/components/ui/button";
 import { Field, FormMessage } from "~/components/ui/field";
+import { checkBeforeSending } from "~/forms/check-before-sending";
 import { fieldErrors, formValues, type FieldErrors } from "~/forms/field-errors";
 import { forgotPasswordSchema } from "~/forms/profile";
 import { requestPasswordReset, RESET_LINK_MINUTES } from "~/models/password-resets.server";
@@ -75,13 +76,7 @@ export default function ForgotPassword({ actionData }: Route.ComponentProps) {
         method="post"
         noValidate
         className="mt-6 flex flex-col gap-4"
-        onSubmit={(event) => {
-          const parsed = forgotPasswordSchema.safeParse(formValues(new FormData(event.currentTarget)));
-          if (!parsed.success) {
-            event.preventDefault();
-            setClientErrors(fieldErrors(parsed.error));
-          } else setClientErrors(null);
-        }}
+        onSubmit={checkBeforeSending(forgotPasswordSchema, setClientErrors)}
       >
         <FormMessage message={errors.form} />
         <Field label="E-mail" name="email" type="email" autoComplete="email" required defaultValue={actionData?.email} error={errors.email} />

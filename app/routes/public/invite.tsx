@@ -4,6 +4,7 @@ import { formatInstant } from "~/components/format";
 import { NewPasswordFields } from "~/components/new-password-fields";
 import { Button } from "~/components/ui/button";
 import { FormMessage } from "~/components/ui/field";
+import { checkBeforeSending } from "~/forms/check-before-sending";
 import { fieldErrors, formValues, type FieldErrors } from "~/forms/field-errors";
 import { acceptInvitationSchema, INVITATION_DAYS, STAFF_ROLE_DUTIES, STAFF_ROLE_NAMES } from "~/forms/staff";
 import { loadBusinessSettings } from "~/models/settings.server";
@@ -91,13 +92,7 @@ export default function Invite({ loaderData, actionData }: Route.ComponentProps)
         method="post"
         noValidate
         className="mt-6 flex flex-col gap-4"
-        onSubmit={(event) => {
-          const parsed = acceptInvitationSchema.safeParse(formValues(new FormData(event.currentTarget)));
-          if (!parsed.success) {
-            event.preventDefault();
-            setClientErrors(fieldErrors(parsed.error));
-          } else setClientErrors(null);
-        }}
+        onSubmit={checkBeforeSending(acceptInvitationSchema, setClientErrors)}
       >
         <FormMessage message={errors.form} />
         {/* For password managers: the account's user name. */}

@@ -2,6 +2,7 @@ import { useState } from "react";
 import { data, Form, Link, useNavigation } from "react-router";
 import { NewPasswordFields } from "~/components/new-password-fields";
 import { Button } from "~/components/ui/button";
+import { checkBeforeSending } from "~/forms/check-before-sending";
 import { fieldErrors, formValues, type FieldErrors } from "~/forms/field-errors";
 import { passwordResetSchema, RESET_LINK_MINUTES } from "~/forms/profile";
 import { findPasswordReset, resetPassword } from "~/models/password-resets.server";
@@ -78,13 +79,7 @@ export default function ResetPassword({ loaderData, actionData }: Route.Componen
         method="post"
         noValidate
         className="mt-6 flex flex-col gap-4"
-        onSubmit={(event) => {
-          const parsed = passwordResetSchema.safeParse(formValues(new FormData(event.currentTarget)));
-          if (!parsed.success) {
-            event.preventDefault();
-            setClientErrors(fieldErrors(parsed.error));
-          } else setClientErrors(null);
-        }}
+        onSubmit={checkBeforeSending(passwordResetSchema, setClientErrors)}
       >
         {/* The account's address, for password managers to file the new password under. */}
         <input type="email" name="username" autoComplete="username" value={loaderData.email} readOnly hidden />

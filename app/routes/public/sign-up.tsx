@@ -4,6 +4,7 @@ import { NewPasswordFields } from "~/components/new-password-fields";
 import { Button } from "~/components/ui/button";
 import { Field } from "~/components/ui/field";
 import { signUpSchema } from "~/forms/account";
+import { checkBeforeSending } from "~/forms/check-before-sending";
 import { fieldErrors, formValues, type FieldErrors } from "~/forms/field-errors";
 import { requestSignUp, SIGN_UP_LINK_HOURS } from "~/models/sign-up-requests.server";
 import { db } from "~/services/db.server";
@@ -49,13 +50,7 @@ export default function SignUp({ actionData }: Route.ComponentProps) {
         method="post"
         noValidate
         className="mt-6 flex flex-col gap-4"
-        onSubmit={(event) => {
-          const parsed = signUpSchema.safeParse(formValues(new FormData(event.currentTarget)));
-          if (!parsed.success) {
-            event.preventDefault();
-            setClientErrors(fieldErrors(parsed.error));
-          } else setClientErrors(null);
-        }}
+        onSubmit={checkBeforeSending(signUpSchema, setClientErrors)}
       >
         <Field label="Your name" name="name" autoComplete="name" required defaultValue={kept?.name} error={errors.name} />
         <Field label="E-mail" name="email" type="email" autoComplete="email" required defaultValue={kept?.email} error={errors.email} />
