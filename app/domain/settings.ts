@@ -76,8 +76,11 @@ export const DEFAULT_MITE_THRESHOLDS: readonly MiteThreshold[] = [
   { fromMonth: 11, toMonth: 1, mitesPer100: 3 },
 ];
 
-/** The business's operative settings, with defaults for every field. */
-export const businessSettingsSchema = z
+/**
+ * Each setting on its own, with defaults for every field. Saving also needs the rules between
+ * settings (businessSettingsSchema); loading settings saved before a rule existed does not.
+ */
+export const businessSettingsFieldsSchema = z
   .object({
     unitSystem: z.enum(["metric", "us"], { error: "Choose metric or US units." }).default("us"),
 
@@ -167,8 +170,10 @@ export const businessSettingsSchema = z
     taxRateBasisPoints: wholeNumberField("the tax rate", 0, 3000, "basis points").default(800),
     paymentTermsDays: wholeNumberField("the payment terms", 0, 120, "days").default(14),
     overdueReminderDays: wholeNumberField("the overdue reminder", 1, 90, "days").default(7),
-  })
-  .superRefine((settings, ctx) => {
+  });
+
+/** The business's operative settings as they may be saved: each field, and the rules between them. */
+export const businessSettingsSchema = businessSettingsFieldsSchema.superRefine((settings, ctx) => {
     for (const boxType of BOX_TYPES) {
       const field = DOSE_RATE_FIELD[boxType];
       for (const problem of doseRateProblems(settings[field], settings.labelMaximumGramsPerBroodBox)) {
@@ -217,7 +222,7 @@ export const businessSettingsSchema = z
         path: ["miteThresholds"],
       });
     }
-  });
+});
 
 /** The business's operative settings. */
 export type BusinessSettings = z.output<typeof businessSettingsSchema>;
@@ -234,6 +239,17 @@ export function doseRatesAboveLabel(settings: BusinessSettings): { boxType: (typ
 
 /** Every default setting. */
 export const defaultBusinessSettings: BusinessSettings = businessSettingsSchema.parse({});
+
+/**
+ * Medium and nuc rates for a business that gave only the deep box's rate: the defaults' share
+ * of it (a medium box takes what the default medium rate is of the default deep rate), so
+ * they stay below any label maximum the deep rate keeps to. At least 0.01 g.
+ */
+export function boxRatesScaledFromDeep(deepGramsPerBox: number): { doseGramsPerMediumBox: number; doseGramsPerNucBox: number } {
+  const d = defaultBusinessSettings;
+  const share = (rate: number) => Math.max(0.01, roundDoseGrams((deepGramsPerBox * rate) / d.doseGramsPerBroodBox));
+  return { doseGramsPerMediumBox: share(d.doseGramsPerMediumBox), doseGramsPerNucBox: share(d.doseGramsPerNucBox) };
+}
 
 /**
  * Why the owner's settings input cannot be saved without a registration number (null when it

@@ -1,6 +1,5 @@
-import { roundDoseGrams } from "~/domain/dose";
 import { z } from "zod";
-import { businessSettingsSchema, defaultBusinessSettings, registrationNumberProblem, type BusinessSettings } from "~/domain/settings";
+import { boxRatesScaledFromDeep, businessSettingsSchema, defaultBusinessSettings, registrationNumberProblem, type BusinessSettings } from "~/domain/settings";
 import { newPasswordSchema } from "./account";
 import { fieldErrors, type FieldErrors } from "./field-errors";
 import { settingsFormDefaults, settingsInputFromForm } from "./settings-form";
@@ -84,14 +83,7 @@ function settingsInput(values: Record<string, string | string[]>): Record<string
   // The form asks for the deep box's rate only; medium and nuc boxes keep their default share
   // of it, so they never pass the label maximum the deep rate keeps to.
   const deep = converted.doseGramsPerBroodBox;
-  const d = defaultBusinessSettings;
-  const scaled =
-    typeof deep === "number" && Number.isFinite(deep) && deep > 0
-      ? {
-          doseGramsPerMediumBox: Math.max(0.01, roundDoseGrams((deep * d.doseGramsPerMediumBox) / d.doseGramsPerBroodBox)),
-          doseGramsPerNucBox: Math.max(0.01, roundDoseGrams((deep * d.doseGramsPerNucBox) / d.doseGramsPerBroodBox)),
-        }
-      : {};
+  const scaled = typeof deep === "number" && Number.isFinite(deep) && deep > 0 ? boxRatesScaledFromDeep(deep) : {};
   return { ...defaultBusinessSettings, ...converted, ...scaled };
 }
 

@@ -1,5 +1,5 @@
 import type { Knex } from "knex";
-import { businessSettingsSchema, defaultBusinessSettings, registrationNumberProblem, type BusinessSettings } from "~/domain/settings";
+import { boxRatesScaledFromDeep, businessSettingsFieldsSchema, businessSettingsSchema, defaultBusinessSettings, registrationNumberProblem, type BusinessSettings } from "~/domain/settings";
 import { fieldErrors, type FieldErrors } from "~/forms/field-errors";
 import { settingsInputFromForm } from "~/forms/settings-form";
 
@@ -10,13 +10,35 @@ export async function loadBusinessSettings(db: Knex): Promise<BusinessSettings> 
   const row = await db("settings").where({ key: KEY }).first("value");
   if (!row) return defaultBusinessSettings;
   const parsed = businessSettingsSchema.safeParse(row.value);
-  // A stored value that no longer validates (a rule tightened since) falls back field by field.
-  return parsed.success ? parsed.data : businessSettingsSchema.parse({ ...defaultBusinessSettings, ...pickValid(row.value) });
+  if (parsed.success) return parsed.data;
+  // Saved before a rule was tightened or a field added: each field that is still valid on its
+  // own is kept, the others take their defaults, and the rules between fields are not applied
+  // (they are for saving: the settings page shows what to correct at the next save). Box rates
+  // that were never saved are scaled from the deep rate, as setup does, so a business whose
+  // label allows less than the default medium rate is not dosed above it.
+  const kept = pickValid(row.value);
+  const deep = kept.doseGramsPerBroodBox ?? defaultBusinessSettings.doseGramsPerBroodBox;
+  const scaled = boxRatesScaledFromDeep(deep);
+  return businessSettingsFieldsSchema.parse({
+    ...defaultBusinessSettings,
+    doseGramsPerMediumBox: kept.doseGramsPerMediumBox ?? scaled.doseGramsPerMediumBox,
+    doseGramsPerNucBox: kept.doseGramsPerNucBox ?? scaled.doseGramsPerNucBox,
+    ...kept,
+  });
+}
+
+/**
+ * The rules between settings that loaded settings break (saved before the rule existed), by
+ * field, or null: the settings page marks them so the owner corrects them at the next save.
+ */
+export function settingsRuleProblems(settings: BusinessSettings): FieldErrors | null {
+  const checked = businessSettingsSchema.safeParse(settings);
+  return checked.success ? null : fieldErrors(checked.error);
 }
 
 function pickValid(value: unknown): Partial<BusinessSettings> {
   if (!value || typeof value !== "object") return {};
-  const shape = businessSettingsSchema.shape as unknown as Record<string, { safeParse(v: unknown): { success: boolean } }>;
+  const shape = businessSettingsFieldsSchema.shape as unknown as Record<string, { safeParse(v: unknown): { success: boolean } }>;
   return Object.fromEntries(
     Object.entries(value).filter(([key, v]) => key in shape && shape[key].safeParse(v).success),
   ) as Partial<BusinessSettings>;

@@ -1,7 +1,7 @@
 import { afterAll, beforeEach, describe, expect, it } from "vitest";
 import { defaultBusinessSettings } from "~/domain/settings";
 import { settingsFormDefaults } from "~/forms/settings-form";
-import { businessIdentity, loadBusinessSettings, updateBusinessSettingsFromForm } from "~/models/settings.server";
+import { businessIdentity, loadBusinessSettings, settingsRuleProblems, updateBusinessSettingsFromForm } from "~/models/settings.server";
 import { db } from "~/services/db.server";
 import { resetDatabase } from "./reset-database";
 
@@ -60,6 +60,24 @@ describe("business settings", () => {
     const refused = await updateBusinessSettingsFromForm(db, form({ businessName: "x".repeat(121) }), ownerId);
     expect(refused.ok).toBe(false);
     if (!refused.ok) expect(refused.errors.businessName).toMatch(/at most 120/);
+  });
+
+  it("loads settings saved before the rules between fields existed, and says what to correct", async () => {
+    // Saved before box types and the capped-brood rule: a label maximum of 0.5 g per box and a
+    // course of 3 rounds 5 days apart (10 days, shorter than the 12 the rule now asks).
+    await db("settings").insert({
+      key: "business",
+      value: JSON.stringify({ doseGramsPerBroodBox: 0.5, labelMaximumGramsPerBroodBox: 0.5, roundsWithBrood: 3, roundIntervalDays: 5, pricePerColonyCents: 1800 }),
+    });
+    const loaded = await loadBusinessSettings(db);
+    // Kept as saved…
+    expect(loaded).toMatchObject({ doseGramsPerBroodBox: 0.5, labelMaximumGramsPerBroodBox: 0.5, roundsWithBrood: 3, roundIntervalDays: 5, pricePerColonyCents: 1800 });
+    // …and the box rates never saved are the defaults' share of the 0.5 g deep rate
+    // (0.7 g and 0.5 g of 1 g by default: 0.35 g and 0.25 g), not above the label.
+    expect(loaded).toMatchObject({ doseGramsPerMediumBox: 0.35, doseGramsPerNucBox: 0.25 });
+    // The settings page marks the rule the saved figures break.
+    expect(settingsRuleProblems(loaded)).toEqual({ roundsWithBrood: expect.stringMatching(/span at least 12 days/) });
+    expect(settingsRuleProblems(defaultBusinessSettings)).toBeNull();
   });
 
   it("keeps the last good settings when a later save is refused", async () => {

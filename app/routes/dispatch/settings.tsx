@@ -10,7 +10,7 @@ import { settingsFormDefaults } from "~/forms/settings-form";
 import { doseRatesAboveLabel, settingsFieldInfo, type BusinessSettings } from "~/domain/settings";
 import { checkVaporizerBand } from "~/domain/chemistry";
 import { celsiusToFahrenheit, kilometresToMiles, roundTo } from "~/domain/units";
-import { loadBusinessSettings, updateBusinessSettingsFromForm } from "~/models/settings.server";
+import { loadBusinessSettings, settingsRuleProblems, updateBusinessSettingsFromForm } from "~/models/settings.server";
 import { db } from "~/services/db.server";
 import { AREA_ROLES, requireRole } from "~/services/permissions.server";
 import { readForm } from "~/services/request.server";
@@ -21,7 +21,13 @@ export const meta: Route.MetaFunction = () => [{ title: "Settings · Varroute" }
 export async function loader({ request }: Route.LoaderArgs) {
   const user = await requireRole(request, AREA_ROLES.dispatch);
   const settings = await loadBusinessSettings(db);
-  return { settings, values: settingsFormDefaults(settings), canEdit: user.role === "owner", saved: new URL(request.url).searchParams.has("saved") };
+  return {
+    settings,
+    values: settingsFormDefaults(settings),
+    ruleProblems: settingsRuleProblems(settings),
+    canEdit: user.role === "owner",
+    saved: new URL(request.url).searchParams.has("saved"),
+  };
 }
 
 export async function action({ request }: Route.ActionArgs) {
@@ -65,7 +71,7 @@ export default function Settings({ loaderData, actionData }: Route.ComponentProp
   const { settings, canEdit } = loaderData;
   const busy = useNavigation().state === "submitting";
   const values = actionData?.values ?? loaderData.values;
-  const errors = actionData?.errors ?? {};
+  const errors = actionData?.errors ?? loaderData.ruleProblems ?? {};
   const readOnly = !canEdit;
   const bandWarnings = checkVaporizerBand({ minC: settings.blockMinC, maxC: settings.blockMaxC }).filter((p) => p.severity === "warning");
   const aboveLabel = doseRatesAboveLabel(settings);
@@ -128,6 +134,9 @@ export default function Settings({ loaderData, actionData }: Route.ComponentProp
       <div className="grid gap-6 lg:grid-cols-3">
         <Form method="post" noValidate className="flex min-w-0 flex-col gap-6 lg:col-span-2">
           {actionData?.errors ? <FormMessage message="Nothing was saved. Correct the fields marked below." /> : null}
+          {!actionData && loaderData.ruleProblems ? (
+            <FormMessage message="These settings were saved before a rule they now break. Until the fields marked below are corrected and saved, Varroute keeps using them as saved." />
+          ) : null}
           {actionData && !actionData.errors ? <FormMessage tone="info" message="Settings saved." /> : null}
           {SECTIONS.map((section) => (
             <Card key={section.title} title={section.title}>
