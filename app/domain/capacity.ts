@@ -234,28 +234,42 @@ export function gramsBookedFor(visits: readonly (YardDoseShape & { colonies: num
 // ---------------------------------------------------------------------------------------
 // A day that lost room
 
-/** A visit on a day whose room shrank: its colonies, and whether it may be moved to another day. */
+/** A visit on a day whose room shrank: its colonies (and grams), and whether it may be moved to another day. */
 export interface VisitTakingRoom {
   id: number;
   colonies: number;
+  /** Grams the visit takes (colonies × its yard's dose per colony); absent counts as 0. */
+  grams?: number;
   /** False for a visit under way or done, or one that must stay for another reason. */
   movable: boolean;
 }
 
 /**
- * Which visits stay on a day of `capacity` colonies and which must move: visits that cannot
- * move stay first; the others stay in the order given (booking order: first booked, first
- * kept) as long as they still fit, and move otherwise. A later, smaller visit may stay where
- * an earlier, bigger one did not fit.
+ * Which visits stay on a day of `capacity` colonies (and `gramsCapacity` grams; null or
+ * absent: grams do not bind the day) and which must move: visits that cannot move stay
+ * first; the others stay in the order given (booking order: first booked, first kept) as
+ * long as both their colonies and their grams still fit, and move otherwise. A later,
+ * smaller visit may stay where an earlier, bigger one did not fit. Grams are compared in
+ * whole centigrams, as doses are kept.
  */
-export function visitsBeyondCapacity(capacity: number, visits: readonly VisitTakingRoom[]): { stay: number[]; move: number[] } {
-  let taken = visits.filter((v) => !v.movable).reduce((sum, v) => sum + v.colonies, 0);
-  const stay = visits.filter((v) => !v.movable).map((v) => v.id);
+export function visitsBeyondCapacity(
+  capacity: number,
+  visits: readonly VisitTakingRoom[],
+  gramsCapacity: number | null = null,
+): { stay: number[]; move: number[] } {
+  const centigramsOf = (v: VisitTakingRoom) => gramsToCentigrams(v.grams ?? 0);
+  const fixed = visits.filter((v) => !v.movable);
+  let taken = fixed.reduce((sum, v) => sum + v.colonies, 0);
+  let takenCentigrams = fixed.reduce((sum, v) => sum + centigramsOf(v), 0);
+  const centigramCapacity = gramsCapacity == null ? null : gramsToCentigrams(gramsCapacity);
+  const stay = fixed.map((v) => v.id);
   const move: number[] = [];
   for (const visit of visits) {
     if (!visit.movable) continue;
-    if (taken + visit.colonies <= capacity) {
+    const gramsFitToo = centigramCapacity == null || takenCentigrams + centigramsOf(visit) <= centigramCapacity;
+    if (taken + visit.colonies <= capacity && gramsFitToo) {
       taken += visit.colonies;
+      takenCentigrams += centigramsOf(visit);
       stay.push(visit.id);
     } else {
       move.push(visit.id);

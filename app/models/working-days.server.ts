@@ -9,7 +9,8 @@ import type { WorkingDayChange } from "~/forms/working-day";
 import { dateInZone } from "~/services/clock.server";
 import { serverEnv } from "~/services/env.server";
 import { requestEmailDelivery } from "~/services/jobs.server";
-import { lockDayRoom, roomBetween, type DayRoom } from "./capacity.server";
+import { centigramsToGrams, gramsToCentigrams } from "~/domain/dose";
+import { lockDayRoom, lockDaysForColonies, roomBetween, yardDosesPerColony, type DayRoom } from "./capacity.server";
 import { lockServiceDay } from "./day-plan.server";
 import { queueEmail } from "./emails.server";
 import { loadBusinessSettings } from "./settings.server";
@@ -21,8 +22,9 @@ import { loadBusinessSettings } from "./settings.server";
 // transaction, or nothing.
 //
 // Which visits move: on a closed day, every open visit (scheduled or deferred). Otherwise the
-// visits taking room stay in booking order (first booked, first kept) as long as they fit;
-// visits under way or done, and visits on published runs, always stay.
+// visits taking room stay in booking order (first booked, first kept) as long as they fit,
+// in colonies and in grams (a closed crew's gram limit leaves the day; capacity.ts); visits
+// under way or done, and visits on published runs, always stay.
 //
 // Published runs (decided): the crew has been sent its run, so this never takes a stop off a
 // published run behind the crew's back. A change that would have to move a visit on a
@@ -34,7 +36,7 @@ import { loadBusinessSettings } from "./settings.server";
 // A run under way or done blocks closing its day or its crew's day.
 //
 // Where visits go: the first day after the changed day (never before tomorrow), within 60
-// days, with room for the visit's colonies, no closer to its course's previous round than
+// days, with room for the visit's colonies and grams, no closer to its course's previous round than
 // the course's spacing. Later rounds of the course already booked move by as many days, as
 // the course rules do when a round is carried out later (courses.ts rescheduleFollowingRounds),
 // and need room on their new days too. The customer gets one e-mail per moved visit, naming
@@ -104,6 +106,11 @@ type DayVisitRow = {
 
 function colonies(n: number): string {
   return `${n} ${n === 1 ? "colony" : "colonies"}`;
+}
+
+/** Centigrams some colonies of a yard take, at the yard's dose per colony (capacity.ts counts the same way). */
+function centigramsFor(coloniesCount: number, dosePerColony: number | undefined): number {
+  return coloniesCount * gramsToCentigrams(dosePerColony ?? 0);
 }
 
 function isRetryable(error: unknown): boolean {
@@ -221,12 +228,22 @@ async function placeVisits(trx: Knex.Transaction, settings: BusinessSettings, ne
   const latestLater = needs.flatMap((n) => n.later.map((r) => r.date)).sort().at(-1);
   const readTo = latestLater && calendarDaysBetween(last, addCalendarDays(latestLater, MOVE_SEARCH_DAYS)) > 0 ? addCalendarDays(latestLater, MOVE_SEARCH_DAYS) : last;
   const rooms = new Map((await roomBetween(trx, settings, start, readTo)).map((r) => [r.date, r]));
-  // Colonies this change adds to (or frees on) each day.
+  const doses = await yardDosesPerColony(trx, settings, needs.map((n) => n.visit.yard_id));
+  const cg = (need: MoveNeed, count: number) => centigramsFor(count, doses.get(need.visit.yard_id));
+  // Colonies, and centigrams, this change adds to (or frees on) each day.
   const delta = new Map<string, number>();
+  const deltaCg = new Map<string, number>();
   const free = (date: string) => {
     const room = rooms.get(date);
     if (!room || room.closed || room.capacity === 0) return -Infinity;
     return room.capacity - room.booked - (delta.get(date) ?? 0);
+  };
+  // Centigrams still free on a day (Infinity when grams do not bind it): not clamped at 0, so
+  // a day over its grams already takes nothing more, whatever leaves it.
+  const freeCg = (date: string) => {
+    const room = rooms.get(date);
+    if (!room || room.gramsCapacity == null) return Infinity;
+    return gramsToCentigrams(room.gramsCapacity) - gramsToCentigrams(room.gramsBooked) - (deltaCg.get(date) ?? 0);
   };
   // A yard is not booked twice on one day (its own rounds' old days excepted, they move too).
   const yardDays = new Map<string, number>();
@@ -241,13 +258,20 @@ async function placeVisits(trx: Knex.Transaction, settings: BusinessSettings, ne
 
   const placed: Placement[] = [];
   const unplaced: MoveNeed[] = [];
+  // Visits some day had room for in colonies but not in grams: the message says so.
+  const gramsShort = new Set<MoveNeed>();
   for (const need of needs) {
     const { visit } = need;
     const own = new Set(need.later.map((r) => r.date));
     const yardFree = (date: string) => (yardDays.get(`${visit.yard_id}:${date}`) ?? 0) - (own.has(date) ? 1 : 0) <= 0;
+    const visitCg = cg(need, visit.colonies_expected);
     let found: Placement | null = null;
     for (let date = need.from; calendarDaysBetween(date, last) >= 0 && !found; date = addCalendarDays(date, 1)) {
       if (!yardFree(date) || free(date) < visit.colonies_expected) continue;
+      if (freeCg(date) < visitCg) {
+        gramsShort.add(need);
+        continue;
+      }
       let shifted: CourseRound[];
       try {
         shifted = rescheduleFollowingRounds(need.rounds, visit.round_number, date);
@@ -255,14 +279,19 @@ async function placeVisits(trx: Knex.Transaction, settings: BusinessSettings, ne
         continue; // a later round already started: this course cannot shift
       }
       const later = need.later.map((round) => ({ round, toDate: shifted.find((r) => r.roundNumber === round.roundNumber)!.date }));
-      // Later rounds' new days: room for each (what they free on their old days counts).
+      // Later rounds' new days: room for each, in colonies and grams (what they free on their old days counts).
       const trial = new Map<string, number>();
+      const trialCg = new Map<string, number>();
       for (const l of later) {
         trial.set(l.toDate, (trial.get(l.toDate) ?? 0) + l.round.colonies);
         trial.set(l.round.date, (trial.get(l.round.date) ?? 0) - l.round.colonies);
+        trialCg.set(l.toDate, (trialCg.get(l.toDate) ?? 0) + cg(need, l.round.colonies));
+        trialCg.set(l.round.date, (trialCg.get(l.round.date) ?? 0) - cg(need, l.round.colonies));
       }
-      const fits = later.every((l) => rooms.has(l.toDate) && yardFree(l.toDate) && free(l.toDate) - (trial.get(l.toDate) ?? 0) >= 0);
-      if (fits) found = { need, toDate: date, later };
+      const coloniesFit = later.every((l) => rooms.has(l.toDate) && yardFree(l.toDate) && free(l.toDate) - (trial.get(l.toDate) ?? 0) >= 0);
+      const gramsFitToo = later.every((l) => freeCg(l.toDate) - (trialCg.get(l.toDate) ?? 0) >= 0);
+      if (coloniesFit && !gramsFitToo) gramsShort.add(need);
+      if (coloniesFit && gramsFitToo) found = { need, toDate: date, later };
     }
     if (!found) {
       unplaced.push(need);
@@ -270,28 +299,40 @@ async function placeVisits(trx: Knex.Transaction, settings: BusinessSettings, ne
     }
     placed.push(found);
     delta.set(found.toDate, (delta.get(found.toDate) ?? 0) + visit.colonies_expected);
+    deltaCg.set(found.toDate, (deltaCg.get(found.toDate) ?? 0) + visitCg);
     yardDays.set(`${visit.yard_id}:${found.toDate}`, (yardDays.get(`${visit.yard_id}:${found.toDate}`) ?? 0) + 1);
     for (const l of found.later) {
       delta.set(l.toDate, (delta.get(l.toDate) ?? 0) + l.round.colonies);
       delta.set(l.round.date, (delta.get(l.round.date) ?? 0) - l.round.colonies);
+      deltaCg.set(l.toDate, (deltaCg.get(l.toDate) ?? 0) + cg(need, l.round.colonies));
+      deltaCg.set(l.round.date, (deltaCg.get(l.round.date) ?? 0) - cg(need, l.round.colonies));
       yardDays.set(`${visit.yard_id}:${l.toDate}`, (yardDays.get(`${visit.yard_id}:${l.toDate}`) ?? 0) + 1);
       yardDays.set(`${visit.yard_id}:${l.round.date}`, (yardDays.get(`${visit.yard_id}:${l.round.date}`) ?? 0) - 1);
     }
   }
   if (unplaced.length > 0) {
+    // Grams are named where they were what some day lacked: a visit's colonies alone would not say why.
+    const size = (n: MoveNeed) =>
+      gramsShort.has(n) ? `${colonies(n.visit.colonies_expected)}, ${centigramsToGrams(cg(n, n.visit.colonies_expected))} g` : colonies(n.visit.colonies_expected);
     const names = unplaced
-      .map((n) => `${n.visit.yard_name} of ${n.visit.customer_name} (${colonies(n.visit.colonies_expected)}${n.later.length ? `, with ${n.later.length === 1 ? "its next round" : `its ${n.later.length} later rounds`}` : ""})`)
+      .map((n) => `${n.visit.yard_name} of ${n.visit.customer_name} (${size(n)}${n.later.length ? `, with ${n.later.length === 1 ? "its next round" : `its ${n.later.length} later rounds`}` : ""})`)
       .join(", ");
+    const gramsWhy = unplaced.some((n) => gramsShort.has(n));
     throw new WorkingDayRefused(
-      `Nothing was changed: no day from ${formatServiceDate(start)} to ${formatServiceDate(last)} has room for ${names}${unplaced.some((n) => n.from !== start || n.later.length > 0) ? ", keeping its course's spacing between rounds" : ""}. Raise a day's capacity or move ${unplaced.length === 1 ? "that visit" : "those visits"} yourself first.`,
+      `Nothing was changed: no day from ${formatServiceDate(start)} to ${formatServiceDate(last)} has room for ${names}${unplaced.some((n) => n.from !== start || n.later.length > 0) ? ", keeping its course's spacing between rounds" : ""}${
+        gramsWhy ? " (the crews' daily gram limits leave too few grams on the days that have the colonies)" : ""
+      }. Raise a day's capacity${gramsWhy ? " or a crew's daily gram limit," : ""} or move ${unplaced.length === 1 ? "that visit" : "those visits"} yourself first.`,
       "form",
     );
   }
 
-  // Every day that takes colonies, locked in date order (all after the changed day) and checked again.
-  for (const [date, adding] of [...delta.entries()].filter(([, n]) => n > 0).sort(([a], [b]) => (a < b ? -1 : a > b ? 1 : 0))) {
-    const room = await lockDayRoom(trx, settings, date);
-    if (room.closed || room.capacity === 0 || room.booked + adding > room.capacity) throw new RoomTakenMeanwhile();
+  // Every day that takes colonies or grams, locked in date order (all after the changed day)
+  // and checked again, grams included, by the rule every booking goes through.
+  const adding = [...new Set([...delta.keys(), ...deltaCg.keys()])]
+    .map((date) => ({ date, adding: delta.get(date) ?? 0, addingGrams: centigramsToGrams(deltaCg.get(date) ?? 0) }))
+    .filter((n) => n.adding > 0 || n.addingGrams > 0);
+  for (const check of await lockDaysForColonies(trx, settings, adding)) {
+    if (check.refusal !== null) throw new RoomTakenMeanwhile();
   }
   return placed;
 }
@@ -482,16 +523,28 @@ async function applyChange(
     } else {
       const takingRoom = visits.filter((v) => v.status !== "deferred").sort(byBooking);
       const movable = (v: DayVisitRow) => v.status === "scheduled" && !onPublished(v) && v.run_status !== "in_progress" && v.run_status !== "done";
+      // Grams too: closing a crew with a daily gram limit takes its grams off the day.
+      const doses = await yardDosesPerColony(trx, settings, takingRoom.map((v) => v.yard_id));
+      const centigramsOf = (v: DayVisitRow) => centigramsFor(v.colonies_expected, doses.get(v.yard_id));
       const { move } = visitsBeyondCapacity(
         after.capacity,
-        takingRoom.map((v) => ({ id: v.id, colonies: v.colonies_expected, movable: movable(v) })),
+        takingRoom.map((v) => ({ id: v.id, colonies: v.colonies_expected, grams: centigramsToGrams(centigramsOf(v)), movable: movable(v) })),
+        after.gramsCapacity,
       );
       const fixed = takingRoom.filter((v) => !movable(v));
       const fixedColonies = fixed.reduce((sum, v) => sum + v.colonies_expected, 0);
+      const fixedCentigrams = fixed.reduce((sum, v) => sum + centigramsOf(v), 0);
+      const field = change.intent === "set_capacity" ? "capacity" : "form";
       if (fixedColonies > after.capacity) {
         throw new WorkingDayRefused(
           `Nothing was changed: the day could then take ${colonies(after.capacity)}, but visits on published runs or under way hold ${colonies(fixedColonies)} (${fixed.map(visitName).join(", ")}). Re-plan the day with published runs included first, or leave the day more room.`,
-          change.intent === "set_capacity" ? "capacity" : "form",
+          field,
+        );
+      }
+      if (after.gramsCapacity != null && fixedCentigrams > gramsToCentigrams(after.gramsCapacity)) {
+        throw new WorkingDayRefused(
+          `Nothing was changed: the day's crews could then apply ${after.gramsCapacity} g, but visits on published runs or under way take ${centigramsToGrams(fixedCentigrams)} g (${fixed.map(visitName).join(", ")}). Re-plan the day with published runs included first, or leave the day's crews more grams.`,
+          field,
         );
       }
       const moveIds = new Set(move);
