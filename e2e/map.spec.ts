@@ -44,7 +44,7 @@ test("the dispatcher sees every yard on the offline map and filters by booking s
   // Filter to each booking state in turn: the pins follow the list, the list the count.
   const filters = page.getByRole("navigation", { name: "Show yards by booking state" });
   let filteredToFewer = false;
-  for (const name of ["Booked", "Next round not booked", "Not booked"]) {
+  for (const name of ["Booked", "Requested", "Next round not booked", "Nothing booked"]) {
     const link = filters.getByRole("link", { name: new RegExp(`^${name}\\s*\\d+$`) });
     const count = Number((await link.textContent())?.match(/(\d+)$/)?.[1]);
     await link.click();

@@ -1,6 +1,7 @@
 import type { Knex } from "knex";
 import { DEFAULT_PAGE_SIZE, PAGE_SIZES, type SortDir, type TablePage } from "~/components/data-table/query";
 import { businessToday } from "~/services/clock.server";
+import { isYardBookingState, YARD_BOOKING_STATES, yardBookingStates, type YardBookingState } from "./yard-booking-state.server";
 
 // The office's and dispatcher's tables of customers and of yards: one SQL query for the
 // page of rows and one for the count and totals of the whole filtered set (no query per
@@ -173,16 +174,9 @@ export async function listCustomers(db: Knex, options: TableOptions<CustomerSort
 
 // ------------------------------------------------------------------ yards
 
-/**
- * Where a yard stands with bookings:
- * - booked: a visit is scheduled on or after today;
- * - requested: a customer's booking request ahead is not yet scheduled;
- * - in_course: a course is under way but its next round is not booked;
- * - not_booked: served or booked before, nothing ahead now;
- * - never_booked: no booking or course ever.
- */
-export const YARD_BOOKING_STATES = ["booked", "requested", "in_course", "not_booked", "never_booked"] as const;
-export type YardBookingState = (typeof YARD_BOOKING_STATES)[number];
+// Where a yard stands with bookings is defined once, in yard-booking-state.server.ts (the
+// dispatcher's map reads the same definition).
+export { YARD_BOOKING_STATES, type YardBookingState } from "./yard-booking-state.server";
 
 const YARD_SORT_SQL = {
   yard: "lower(t.name)",
@@ -216,25 +210,9 @@ export type YardTotals = { colonies: number; broodYards: number; supersOffYards:
 export type YardPage = TablePage<YardListRow, YardTotals, YardSort> & { state: YardBookingState | null };
 
 function yardRows(db: Knex, today: string, search: string) {
-  const nextVisits = db("visits")
-    .where("service_date", ">=", today)
-    .whereIn("status", BOOKED_VISIT)
-    .groupBy("yard_id")
-    .select("yard_id", db.raw("min(service_date) as next_visit_date"));
-  const requests = db("bookings")
-    .where("service_date", ">=", today)
-    .where("status", "requested")
-    .groupBy("yard_id")
-    .select("yard_id", db.raw("min(service_date) as requested_date"));
-  const courses = db("courses").groupBy("yard_id").select("yard_id", db.raw("bool_or(status = 'active') as active"));
-  const everBooked = db("bookings").groupBy("yard_id").select("yard_id");
-
   const q = db("yards as y")
     .join("customers as c", "c.id", "y.customer_id")
-    .leftJoin(nextVisits.as("nv"), "nv.yard_id", "y.id")
-    .leftJoin(requests.as("rq"), "rq.yard_id", "y.id")
-    .leftJoin(courses.as("co"), "co.yard_id", "y.id")
-    .leftJoin(everBooked.as("eb"), "eb.yard_id", "y.id")
+    .join(yardBookingStates(db, today).as("bs"), "bs.yard_id", "y.id")
     .whereNull("y.archived_at")
     .whereNull("c.anonymised_at")
     .select(
@@ -248,14 +226,9 @@ function yardRows(db: Knex, today: string, search: string) {
       "y.colony_count as colonies",
       "y.brood_status",
       "y.supers_off",
-      "nv.next_visit_date",
-      "rq.requested_date",
-      db.raw(`case
-        when nv.next_visit_date is not null then 'booked'
-        when rq.requested_date is not null then 'requested'
-        when co.active then 'in_course'
-        when co.yard_id is null and eb.yard_id is null then 'never_booked'
-        else 'not_booked' end as booking_state`),
+      "bs.next_visit_date",
+      "bs.requested_date",
+      "bs.booking_state",
     );
   if (search) {
     const pattern = containsPattern(search);
@@ -276,7 +249,7 @@ function yardRows(db: Knex, today: string, search: string) {
 /** A page of the yards table (optionally only yards in one booking state), with the count and totals. */
 export async function listYards(db: Knex, options: TableOptions<YardSort> & { state?: string | null } = {}): Promise<YardPage> {
   const query = normalise(options, YARD_SORT_SQL, "yard");
-  const state = (YARD_BOOKING_STATES as readonly string[]).includes(options.state ?? "") ? (options.state as YardBookingState) : null;
+  const state = isYardBookingState(options.state) ? options.state : null;
   const today = options.today ?? (await businessToday(db));
   const filtered = () => {
     const q = db.from(yardRows(db, today, query.search).as("t"));

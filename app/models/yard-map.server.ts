@@ -1,15 +1,26 @@
 import type { Knex } from "knex";
+import { yardBookingStates, type YardBookingState } from "./yard-booking-state.server";
 
-/** Where a yard stands for the coming treatment:
- *  - "booked": a scheduled or in-progress visit on or after today;
- *  - "in-course": not booked, but an active course still has a round to come;
- *  - "never": neither (no course under way and nothing booked). */
-export const YARD_BOOKING_STATES = ["booked", "in-course", "never"] as const;
-export type YardBookingState = (typeof YARD_BOOKING_STATES)[number];
+// The dispatcher's map of yards. A yard's booking state is the yards table's
+// (yard-booking-state.server.ts); the map only groups the five states into four pins.
 
-export function isYardBookingState(value: unknown): value is YardBookingState {
-  return typeof value === "string" && (YARD_BOOKING_STATES as readonly string[]).includes(value);
+/** The map's groups, in legend order, and the keys of its `?state=` filter. The keys
+ *  "booked", "in-course" and "never" predate "requested" and stay for old links. */
+export const YARD_MAP_GROUPS = ["booked", "requested", "in-course", "never"] as const;
+export type YardMapGroup = (typeof YARD_MAP_GROUPS)[number];
+
+export function isYardMapGroup(value: unknown): value is YardMapGroup {
+  return typeof value === "string" && (YARD_MAP_GROUPS as readonly string[]).includes(value);
 }
+
+/** The map's group of each booking state: "never" holds both nothing booked now and never booked. */
+export const YARD_MAP_GROUP_OF_STATE: Record<YardBookingState, YardMapGroup> = {
+  booked: "booked",
+  requested: "requested",
+  in_course: "in-course",
+  not_booked: "never",
+  never_booked: "never",
+};
 
 export type YardOnMap = {
   id: number;
@@ -19,15 +30,20 @@ export type YardOnMap = {
   customerName: string;
   colonies: number;
   state: YardBookingState;
+  group: YardMapGroup;
   /** The first scheduled or in-progress visit on or after today, if any. */
   nextVisitDate: string | null;
+  /** The first booking request on or after today not yet confirmed, if any. */
+  requestedDate: string | null;
 };
 
-/** Every active (not archived) yard with its booking state, in one query, by name. */
+/** The yards the yards table lists (active yards of current customers) with their booking state, in one query, by name. */
 export async function yardsWithBookingState(db: Knex, today: string): Promise<YardOnMap[]> {
-  const rows: (Omit<YardOnMap, "state"> & { courseUnderWay: boolean })[] = await db("yards")
+  const rows: Omit<YardOnMap, "group">[] = await db("yards")
     .join("customers", "customers.id", "yards.customer_id")
+    .join(yardBookingStates(db, today).as("bs"), "bs.yard_id", "yards.id")
     .whereNull("yards.archived_at")
+    .whereNull("customers.anonymised_at")
     .select(
       "yards.id",
       "yards.name",
@@ -35,31 +51,17 @@ export async function yardsWithBookingState(db: Knex, today: string): Promise<Ya
       "yards.lng",
       "customers.name as customerName",
       "yards.colony_count as colonies",
-      db("visits")
-        .min("service_date")
-        .whereRaw("visits.yard_id = yards.id")
-        .where("service_date", ">=", today)
-        .whereIn("status", ["scheduled", "in_progress"])
-        .as("nextVisitDate"),
-      // An active course with fewer rounds done than planned has a next round to book.
-      db.raw(
-        `exists (
-          select 1 from courses
-          where courses.yard_id = yards.id and courses.status = 'active'
-            and (select count(*) from visits done where done.course_id = courses.id and done.status = 'done') < courses.rounds_planned
-        ) as "courseUnderWay"`,
-      ),
+      "bs.booking_state as state",
+      "bs.next_visit_date as nextVisitDate",
+      "bs.requested_date as requestedDate",
     )
     .orderBy([{ column: "yards.name" }, { column: "yards.id" }]);
-  return rows.map(({ courseUnderWay, ...yard }) => ({
-    ...yard,
-    state: yard.nextVisitDate ? "booked" : courseUnderWay ? "in-course" : "never",
-  }));
+  return rows.map((yard) => ({ ...yard, group: YARD_MAP_GROUP_OF_STATE[yard.state] }));
 }
 
-/** How many yards are in each booking state. */
-export function countYardsByBookingState(yards: readonly { state: YardBookingState }[]): Record<YardBookingState, number> {
-  const counts: Record<YardBookingState, number> = { booked: 0, "in-course": 0, never: 0 };
-  for (const yard of yards) counts[yard.state] += 1;
+/** How many yards are in each of the map's groups. */
+export function countYardsByMapGroup(yards: readonly { group: YardMapGroup }[]): Record<YardMapGroup, number> {
+  const counts: Record<YardMapGroup, number> = { booked: 0, requested: 0, "in-course": 0, never: 0 };
+  for (const yard of yards) counts[yard.group] += 1;
   return counts;
 }

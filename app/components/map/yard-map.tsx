@@ -5,7 +5,7 @@ import { lazy, Suspense, useId, useSyncExternalStore, type ReactNode } from "rea
 // server) a placeholder of the same size holds its place. The marker shapes and the legend
 // are plain SVG and render anywhere, so lists and legends can show the same pins.
 
-export type MarkerTone = "booked" | "in-course" | "never" | "selected" | "stop";
+export type MarkerTone = "booked" | "requested" | "in-course" | "never" | "selected" | "stop";
 export type LatLng = { lat: number; lng: number };
 
 export type YardMapMarker = {
@@ -52,8 +52,10 @@ export const DEFAULT_CENTRE: [number, number] = [42.44, -76.5]; // Ithaca, NY
 export const DEFAULT_ZOOM = 9;
 export const PAPER = "#f6f4ee";
 
-export const MARKER_TONES: Record<MarkerTone, { fill: string; ink: string; glyph: "check" | "part" | "ring" | "dot" | "number" }> = {
+export const MARKER_TONES: Record<MarkerTone, { fill: string; ink: string; glyph: "check" | "wait" | "part" | "ring" | "dot" | "number" }> = {
   booked: { fill: "#175a43", ink: "#ffffff", glyph: "check" },
+  // Blue, the one hue the other pins do not use (white on it 6.4:1), with an hourglass.
+  requested: { fill: "#2f5ea8", ink: "#ffffff", glyph: "wait" },
   "in-course": { fill: "#c7801a", ink: "#17201c", glyph: "part" },
   never: { fill: "#5b6660", ink: "#ffffff", glyph: "ring" },
   selected: { fill: "#a3241a", ink: "#ffffff", glyph: "dot" },
@@ -76,6 +78,9 @@ function glyphSvg(tone: MarkerTone, number?: number): string {
   switch (glyph) {
     case "check":
       return `<path d="M10.6 15.3l3.6 3.6 7.2-7.6" fill="none" stroke="${ink}" stroke-width="3" stroke-linecap="round" stroke-linejoin="round"/>`;
+    case "wait":
+      // An hourglass: waiting for the office to confirm.
+      return `<path d="M11.4 9.6h9.2L16 15l4.6 5.4h-9.2L16 15Z" fill="${ink}" stroke="${ink}" stroke-width="1" stroke-linejoin="round"/>`;
     case "part":
       // A disc half filled: a course part done.
       return `<circle cx="16" cy="15" r="5.6" fill="none" stroke="${ink}" stroke-width="2.2"/><path d="M16 9.4a5.6 5.6 0 0 0 0 11.2Z" fill="${ink}"/>`;

@@ -2,7 +2,7 @@ import { Link } from "react-router";
 import { formatServiceDate } from "~/components/format";
 import { MapLegend, MarkerSwatch, YardMap, type YardMapMarker } from "~/components/map/yard-map";
 import { PageHeader } from "~/components/ui/card";
-import { countYardsByBookingState, isYardBookingState, yardsWithBookingState, type YardBookingState } from "~/models/yard-map.server";
+import { countYardsByMapGroup, isYardMapGroup, yardsWithBookingState, type YardMapGroup, type YardOnMap } from "~/models/yard-map.server";
 import { businessToday } from "~/services/clock.server";
 import { db } from "~/services/db.server";
 import { mapConfig } from "~/services/env.server";
@@ -14,33 +14,43 @@ export const meta: Route.MetaFunction = () => [{ title: "Yards on the map · Var
 export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, AREA_ROLES.dispatch);
   const stateParam = new URL(request.url).searchParams.get("state");
-  const filter = isYardBookingState(stateParam) ? stateParam : null;
+  // ?state= takes the map's group keys (old links' "booked", "in-course" and "never" included).
+  const filter = isYardMapGroup(stateParam) ? stateParam : null;
   const today = await businessToday(db);
   const yards = await yardsWithBookingState(db, today);
   return {
     today,
     filter,
     total: yards.length,
-    counts: countYardsByBookingState(yards),
-    yards: filter ? yards.filter((y) => y.state === filter) : yards,
+    counts: countYardsByMapGroup(yards),
+    yards: filter ? yards.filter((y) => y.group === filter) : yards,
     map: mapConfig(),
   };
 }
 
 // In legend order (the component cannot import the server module's list).
-const STATES: YardBookingState[] = ["booked", "in-course", "never"];
+const GROUPS: YardMapGroup[] = ["booked", "requested", "in-course", "never"];
 
-const STATE_NAMES: Record<YardBookingState, string> = {
+const GROUP_NAMES: Record<YardMapGroup, string> = {
   booked: "Booked",
+  requested: "Requested",
   "in-course": "Next round not booked",
-  never: "Not booked",
+  never: "Nothing booked",
 };
 
-const STATE_EXPLAINED: Record<YardBookingState, string> = {
+const GROUP_EXPLAINED: Record<YardMapGroup, string> = {
   booked: "a visit is scheduled from today on",
-  "in-course": "a course is under way and its next round has no visit yet",
-  never: "no visit booked and no course under way",
+  requested: "the customer asked for a visit from today on and the office has not confirmed it yet",
+  "in-course": "a course is under way and its next round has no visit booked",
+  never: "nothing booked or requested from today on and no course under way (booked before, or never)",
 };
+
+/** The line under a yard's name in the list: its group, and the day that goes with it. */
+function yardStateLine(yard: Pick<YardOnMap, "group" | "state" | "nextVisitDate" | "requestedDate">): string {
+  if (yard.nextVisitDate) return `${GROUP_NAMES[yard.group]} · ${formatServiceDate(yard.nextVisitDate, false)}`;
+  if (yard.requestedDate) return `${GROUP_NAMES[yard.group]} for ${formatServiceDate(yard.requestedDate, false)}`;
+  return yard.state === "never_booked" ? "Never booked" : GROUP_NAMES[yard.group];
+}
 
 const colonies = (n: number) => `${n} ${n === 1 ? "colony" : "colonies"}`;
 
@@ -50,13 +60,19 @@ export default function DispatchMap({ loaderData }: Route.ComponentProps) {
     id: yard.id,
     lat: yard.lat,
     lng: yard.lng,
-    title: `${yard.name} (${STATE_NAMES[yard.state].toLowerCase()})`,
-    tone: yard.state,
+    title: `${yard.name} (${GROUP_NAMES[yard.group].toLowerCase()})`,
+    tone: yard.group,
     href: `/dispatch/yards/${yard.id}`,
-    popup: `${yard.customerName} · ${colonies(yard.colonies)}${yard.nextVisitDate ? ` · next visit ${formatServiceDate(yard.nextVisitDate, false)}` : ""}`,
+    popup: `${yard.customerName} · ${colonies(yard.colonies)}${
+      yard.nextVisitDate
+        ? ` · next visit ${formatServiceDate(yard.nextVisitDate, false)}`
+        : yard.requestedDate
+          ? ` · requested for ${formatServiceDate(yard.requestedDate, false)}`
+          : ""
+    }`,
   }));
-  const shown = filter ? `${STATE_NAMES[filter].toLowerCase()} yards` : "yards";
-  const filterLink = (state: YardBookingState | null, label: string, count: number) => {
+  const shown = filter ? `${GROUP_NAMES[filter].toLowerCase()} yards` : "yards";
+  const filterLink = (state: YardMapGroup | null, label: string, count: number) => {
     const active = state === filter;
     return (
       <li key={state ?? "all"}>
@@ -80,7 +96,7 @@ export default function DispatchMap({ loaderData }: Route.ComponentProps) {
       <nav aria-label="Show yards by booking state" className="mb-4">
         <ul className="flex flex-wrap gap-2">
           {filterLink(null, "All yards", total)}
-          {STATES.map((state) => filterLink(state, STATE_NAMES[state], counts[state]))}
+          {GROUPS.map((group) => filterLink(group, GROUP_NAMES[group], counts[group]))}
         </ul>
       </nav>
       <div className="grid gap-6 lg:grid-cols-[minmax(0,1fr)_22rem]">
@@ -93,7 +109,7 @@ export default function DispatchMap({ loaderData }: Route.ComponentProps) {
           description="The same yards are listed with the map, with links to each yard."
           legend={
             <MapLegend
-              items={STATES.map((state) => ({ tone: state, label: STATE_NAMES[state], count: counts[state] }))}
+              items={GROUPS.map((group) => ({ tone: group, label: GROUP_NAMES[group], count: counts[group] }))}
             />
           }
         />
@@ -101,7 +117,7 @@ export default function DispatchMap({ loaderData }: Route.ComponentProps) {
           <h2 id="yards-shown-title" className="mb-2 text-lg font-bold">
             Yards shown ({yards.length})
           </h2>
-          {filter ? <p className="mb-2 text-sm text-ink-soft">{`${STATE_NAMES[filter]}: ${STATE_EXPLAINED[filter]}.`}</p> : null}
+          {filter ? <p className="mb-2 text-sm text-ink-soft">{`${GROUP_NAMES[filter]}: ${GROUP_EXPLAINED[filter]}.`}</p> : null}
           {yards.length === 0 ? (
             <p className="rounded-xl border border-line bg-card p-4 text-ink-soft">No yards are in this state.</p>
           ) : (
@@ -112,7 +128,7 @@ export default function DispatchMap({ loaderData }: Route.ComponentProps) {
             >
               {yards.map((yard) => (
                 <li key={yard.id} className="flex items-start gap-3 px-3 py-2">
-                  <MarkerSwatch tone={yard.state} height={24} className="mt-0.5" />
+                  <MarkerSwatch tone={yard.group} height={24} className="mt-0.5" />
                   <div className="min-w-0">
                     <Link to={`/dispatch/yards/${yard.id}`} className="font-semibold text-pine-800 underline underline-offset-2">
                       {yard.name}
@@ -120,10 +136,7 @@ export default function DispatchMap({ loaderData }: Route.ComponentProps) {
                     <p className="text-sm text-ink-soft">
                       {yard.customerName} · {colonies(yard.colonies)}
                     </p>
-                    <p className="text-sm">
-                      {STATE_NAMES[yard.state]}
-                      {yard.nextVisitDate ? ` · ${formatServiceDate(yard.nextVisitDate, false)}` : ""}
-                    </p>
+                    <p className="text-sm">{yardStateLine(yard)}</p>
                   </div>
                 </li>
               ))}
