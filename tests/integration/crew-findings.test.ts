@@ -78,7 +78,7 @@ describe("corrections at the hive", () => {
 
     // A colony tallied without corrections keeps its record and its dose.
     const plain = await recordTally(db, { visitId: stop.visitId, crewId: crew.id, userId: crewUser, idempotencyKey: aKey("tally"), colonyLabel: "H2", outcome: "treated", recordedAt: new Date() });
-    // 1 deep brood box × 1 g (the default rate) // common practice
+    // 1 deep brood box × 1 g per brood box. // Source: US label, EPA Reg. No. 73291-2, as cited in Tellarini Prieto et al. 2024
     expect(plain).toMatchObject({ broodBoxes: 1, boxType: "deep", broodSeen: null, doseGrams: 1 });
     expect(await db("audit_log").where({ action: "colony.correct" })).toHaveLength(1);
   });

@@ -74,7 +74,7 @@ describe("TSPLIB parsing", () => {
   });
 
   it("reads optima.txt with the values listed in sources.md", () => {
-    // Source: TSPLIB95, Reinelt 1991, optima.txt (as listed in /work/shared/sources.md).
+    // Source: TSPLIB95, Reinelt 1991, optima.txt (docs/sources.md, "TSPLIB").
     expect(Object.fromEntries(parseOptima(read("optima.txt")))).toEqual({
       burma14: 3323,
       ulysses16: 6859,

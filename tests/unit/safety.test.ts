@@ -3,8 +3,9 @@ import { LABEL_DEFERENCE_NOTICE, SAFETY_CAUTIONS, safetyCaution } from "~/domain
 
 describe("safety cautions", () => {
   it("lists the cautions of the product brief, each once", () => {
-    // Source: product.md "Safety and law": respirator, sealed eye protection, acid-resistant gloves,
-    // no honey supers for human consumption, follow the label, local licensing for hire.
+    // Source: docs/sources.md "The six safety cautions": respirator, sealed eye protection,
+    // acid-resistant gloves, no honey supers for human consumption, follow the label, local
+    // licensing for hire.
     const ids = SAFETY_CAUTIONS.map((c) => c.id);
     expect(ids).toEqual(["respirator", "eye-protection", "gloves", "honey-supers", "label", "licensing"]);
     expect(new Set(ids).size).toBe(ids.length);

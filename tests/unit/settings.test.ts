@@ -194,6 +194,25 @@ describe("validation messages per field", () => {
     expect(doseRatesAboveLabel(defaultBusinessSettings)).toEqual([]);
   });
 
+  it("sets the guards' and box rates' defaults from the trade's habits", () => {
+    const d = defaultBusinessSettings;
+    // common practice: a course of 3 rounds with brood and one broodless round in winter = 4
+    // applications per colony per season.
+    expect(d.maxApplicationsPerColonyPerSeason).toBe(d.roundsWithBrood + 1);
+    expect(d.maxApplicationsPerColonyPerSeason).toBe(4);
+    // common practice, from memory: bees cluster tightly below about 4 °C (40 °F); about 30 °C
+    // (86 °F) at the top.
+    expect([d.airTempMinC, d.airTempMaxC]).toEqual([4, 30]);
+    // common practice: small pan vaporizers take about 1–2 g a load.
+    expect(d.vaporizerLoadGrams).toBeGreaterThanOrEqual(1);
+    expect(d.vaporizerLoadGrams).toBeLessThanOrEqual(2);
+    // common practice: a box's rate scaled by its volume; Langstroth depths 9⅝ in (deep) and
+    // 6⅝ in (medium), from memory: 6.625 / 9.625 = 0.688… ≈ 0.7 of the deep rate.
+    expect(d.doseGramsPerMediumBox / d.doseGramsPerBroodBox).toBeCloseTo(6.625 / 9.625, 1);
+    // common practice: a five-frame nuc takes about half a ten-frame deep's dose (5 / 10).
+    expect(d.doseGramsPerNucBox / d.doseGramsPerBroodBox).toBe(5 / 10);
+  });
+
   it("keeps application records 2 years unless the business sets longer", () => {
     // Source: US EPA certification rule, restricted-use records kept ≥ 2 years, as summarised by pesticidestewardship.org.
     expect(defaultBusinessSettings.recordRetentionYears).toBe(2);
