@@ -59,7 +59,11 @@ function isPhoneNumber(value: string): boolean {
 export const miteThresholdSchema = z.object({
   fromMonth: wholeNumberField("the first month", 1, 12),
   toMonth: wholeNumberField("the last month", 1, 12),
-  mitesPer100: numberField("the threshold", 0.1, 50, "mites per 100 bees"),
+  // To 0.1, the precision loads are shown and compared at (mites.ts): a threshold of 2.35
+  // would be read as 2.4 anyway.
+  mitesPer100: numberField("the threshold", 0.1, 50, "mites per 100 bees").refine((v) => Number.isInteger(Math.round(v * 1e6) / 1e5), {
+    error: "Enter the threshold to one decimal place, e.g. 2.5 mites per 100 bees.",
+  }),
 }, { error: "Enter each threshold's months and mites per 100 bees." });
 
 /**

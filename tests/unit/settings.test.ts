@@ -149,6 +149,15 @@ describe("validation messages per field", () => {
     expect(validateBusinessSettings({ miteThresholds: [{ fromMonth: 1, toMonth: 12, mitesPer100: 2 }] }).ok).toBe(true);
   });
 
+  it("takes thresholds to the 0.1 mites per 100 bees that loads are shown and compared at", () => {
+    const result = businessSettingsSchema.safeParse({ miteThresholds: [{ fromMonth: 1, toMonth: 12, mitesPer100: 2.35 }] });
+    expect(result.success).toBe(false);
+    expect(result.error!.issues.map((i) => i.message)).toContain("Enter the threshold to one decimal place, e.g. 2.5 mites per 100 bees.");
+    for (const ok of [0.1, 2.4, 0.1 + 0.2, 12.5]) {
+      expect(validateBusinessSettings({ miteThresholds: [{ fromMonth: 1, toMonth: 12, mitesPer100: ok }] }).ok).toBe(true);
+    }
+  });
+
   it("keeps the interval between 4 and 10 days and the rounds whole", () => {
     expect(validateBusinessSettings({ roundIntervalDays: 4, roundsWithBrood: 4 }).ok).toBe(true);
     expect(validateBusinessSettings({ roundIntervalDays: 10 }).ok).toBe(true);

@@ -178,7 +178,7 @@ export default function Settings({ loaderData, actionData }: Route.ComponentProp
                         ))}
                         <label className="flex flex-col text-sm font-semibold">
                           Threshold
-                          <input name={`miteThresholds.${i}.mitesPer100`} type="number" step="any" inputMode="decimal" defaultValue={values[`miteThresholds.${i}.mitesPer100`] ?? ""} disabled={readOnly}
+                          <input name={`miteThresholds.${i}.mitesPer100`} type="number" step="0.1" inputMode="decimal" defaultValue={values[`miteThresholds.${i}.mitesPer100`] ?? ""} disabled={readOnly}
                             className="min-h-11 w-28 rounded-lg border-2 border-line bg-card px-2 text-base disabled:bg-paper" />
                         </label>
                         {["fromMonth", "toMonth", "mitesPer100"].map((part) =>
