@@ -1,6 +1,6 @@
 import { afterAll, beforeEach, describe, expect, it } from "vitest";
 import { describeAuditEntry } from "~/domain/audit-descriptions";
-import { crewDayCapacityColonies, isoWeekdayOf } from "~/domain/capacity";
+import { isoWeekdayOf } from "~/domain/capacity";
 import { addCalendarDays } from "~/domain/courses";
 import { defaultBusinessSettings } from "~/domain/settings";
 import { crewSchema } from "~/forms/crew";
@@ -214,8 +214,15 @@ describe("adding and editing a crew", () => {
 
     const [listed] = await listCrews(db);
     expect(listed).toMatchObject({ name: "Crew North", weekdays: "Mon, Wed, Sat", maxColoniesPerDay: 40, members: [{ name: "Ann Hive" }, { name: "Bo Smoker" }] });
-    // The figure the booking calendar counts: the estimate, capped at 40 colonies and 55 g (one box, 1 g each).
-    expect(listed.estimatedColoniesPerDay).toBe(Math.min(40, 55, crewDayCapacityColonies({ workMinutes: 540, vaporizers: 3 }, settings)));
+    // The figure the booking calendar counts: the estimate, capped at the crew's limits.
+    // Estimate, 07:30–16:30 = 540 min, 3 vaporizers, default times: a typical yard of 5 colonies
+    // is 2 cycles, 15 + 2 × 35/60 + 1 × 2 + 10 = 28.17 min, + 20 min drive = 48.17 min;
+    // 540 − 20 (drive home) = 520, 520 / 48.17 = 10.8 → 10 yards = 50 colonies, 38.33 min left
+    // (a 1-colony yard needs 15 + 35/60 + 10 + 20 = 45.58) → 50.
+    // Limits: 40 colonies; 55.5 g over the least dose a colony can take (one nuc box, 0.5 g) = 111.
+    // min(50, 40, 111) = 40.
+    expect(listed.estimatedColoniesPerDay).toBe(40);
+    expect(listed.limitColoniesPerDay).toBe(40);
   });
 
   it("edits a crew: the new values, the members replaced, and crew.update with before and after", async () => {

@@ -33,9 +33,15 @@ describe("the colony figure from a crew's gram limit", () => {
     const crew = { ...longDay, maxDoseGramsPerDay: 10 };
     const settings = { ...timing, ...rates };
     expect(crewColonyLimit(crew, leastColonyDoseGrams(settings))).toBe(20);
-    expect(Math.min(crewDayCapacityColonies({ ...longDay }, settings), 20)).toBe(crewDayCapacityColonies(crew, settings));
-    // With only the deep rate known, 10 g is 10 colonies, as before box types.
-    expect(crewDayCapacityColonies(crew, { ...timing, doseGramsPerBroodBox: 1 })).toBe(Math.min(10, crewDayCapacityColonies(longDay, timing)));
+    // Default times, 4 vaporizers: a typical yard of 5 colonies is 2 cycles,
+    // 15 + 2 × 35/60 + 1 × 2 + 10 = 28.17 min, + 20 min drive = 48.17 min. 720 − 20 (drive
+    // home) = 700: 700 / 48.17 = 14.53 → 14 yards = 70 colonies, 25.67 min left (a 1-colony
+    // yard needs 15 + 35/60 + 10 + 20 = 45.58) → 70; capped at the gram limit's 20 → 20.
+    expect(crewDayCapacityColonies({ ...longDay }, settings)).toBe(70);
+    expect(crewDayCapacityColonies(crew, settings)).toBe(20);
+    // With only the deep rate known, 10 g is 10 colonies, as before box types: min(10, 70) = 10.
+    expect(crewDayCapacityColonies(longDay, timing)).toBe(70);
+    expect(crewDayCapacityColonies(crew, { ...timing, doseGramsPerBroodBox: 1 })).toBe(10);
     expect(dayCapacityColonies([crew, crew], settings, { closed: false, capacityOverride: 100 })).toBe(40);
   });
 

@@ -56,13 +56,17 @@ describe("a crew's daily limits in the capacity", () => {
   });
 
   it("caps the crew's estimate at its limits, and only there", () => {
-    const estimate = crewDayCapacityColonies(longDay, settings);
-    expect(estimate).toBeGreaterThan(20);
+    // Default times, 3 vaporizers: a typical yard of 5 colonies is 2 cycles,
+    // 15 + 2 × 35/60 + 1 × 2 + 10 = 28.17 min, + 20 min drive = 48.17 min. The 600 min day less
+    // the 20 min drive home leaves 580: 580 / 48.17 = 12.04 → 12 yards = 60 colonies, 2 min
+    // left (a 1-colony yard needs 15 + 35/60 + 10 + 20 = 45.58) → 60.
+    expect(crewDayCapacityColonies(longDay, settings)).toBe(60);
     expect(crewDayCapacityColonies({ ...longDay, maxColoniesPerDay: 12 }, settings)).toBe(12);
     // The colony figure is an upper bound: 9.5 g over the least dose a colony can take (one
     // nuc box at the default 0.5 g) is 19; the grams themselves are checked separately.
-    expect(crewDayCapacityColonies({ ...longDay, maxDoseGramsPerDay: 9.5 }, settings)).toBe(9.5 / settings.doseGramsPerNucBox);
-    expect(crewDayCapacityColonies({ ...longDay, maxColoniesPerDay: estimate + 50 }, settings)).toBe(estimate);
+    expect(crewDayCapacityColonies({ ...longDay, maxDoseGramsPerDay: 9.5 }, settings)).toBe(19);
+    // A limit above the estimate (60 + 50 = 110) leaves the estimate, 60.
+    expect(crewDayCapacityColonies({ ...longDay, maxColoniesPerDay: 110 }, settings)).toBe(60);
     fc.assert(
       fc.property(fc.integer({ min: 60, max: 720 }), fc.integer({ min: 1, max: 4 }), fc.integer({ min: 1, max: 200 }), (minutes, vaporizers, limit) => {
         const crew = { workMinutes: minutes, vaporizers };

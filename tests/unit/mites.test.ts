@@ -198,7 +198,21 @@ describe("comparing a load with a threshold at the shown precision", () => {
     expect(mitesPer100AsShown(3.05)).toBe(3.1);
     expect(mitesPer100AsShown(2.25)).toBe(2.3);
     expect(mitesPer100AsShown(1.15)).toBe(1.2); // 1.15 is 1.1499… in binary; shown and compared as 1.2
-    for (const v of [0, 0.04, 2.96, 3.04, 3.05, 13.87, 1.15, 2.25]) expect(mitesPer100AsShown(v).toFixed(1)).toBe(formatMitesPer100(v));
+    // [load, shown, text]: to one decimal, halves away from zero (13.87 → 13.9; 1.15 and 2.25 are halves).
+    const cases: [number, number, string][] = [
+      [0, 0, "0.0"],
+      [0.04, 0, "0.0"],
+      [2.96, 3, "3.0"],
+      [3.04, 3, "3.0"],
+      [3.05, 3.1, "3.1"],
+      [13.87, 13.9, "13.9"],
+      [1.15, 1.2, "1.2"],
+      [2.25, 2.3, "2.3"],
+    ];
+    for (const [load, shown, text] of cases) {
+      expect(mitesPer100AsShown(load)).toBe(shown);
+      expect(formatMitesPer100(load)).toBe(text);
+    }
   });
 
   it("is 'at' on both sides of the boundary that rounds to the threshold", () => {
@@ -221,8 +235,11 @@ describe("comparing a load with a threshold at the shown precision", () => {
       fc.property(fc.integer({ min: 0, max: 5000 }), fc.integer({ min: 1, max: 500 }), (hundredths, thresholdTenths) => {
         const load = hundredths / 100;
         const threshold = thresholdTenths / 10;
-        const shown = Number(formatMitesPer100(load));
-        const expected = shown < threshold ? "below" : shown === threshold ? "at" : "above";
+        // The shown figure in whole tenths, worked in integers (no floating point): hundredths
+        // to tenths, a half (…5) rounded up — 304 → 30, 305 → 31, 115 → 12.
+        const shownTenths = Math.floor((hundredths + 5) / 10);
+        expect(formatMitesPer100(load)).toBe(`${Math.floor(shownTenths / 10)}.${shownTenths % 10}`);
+        const expected = shownTenths < thresholdTenths ? "below" : shownTenths === thresholdTenths ? "at" : "above";
         expect(miteLoadLevel(load, threshold)).toBe(expected);
         expect(atOrAboveThreshold(load, threshold)).toBe(expected !== "below");
       }),

@@ -135,6 +135,15 @@ describe("coloniesPerCrewDay", () => {
   });
 
   it("is the largest count that fits", () => {
+    // On the boundary: 5 colonies on one vaporizer take exactly 15 + 5 × 0.6 + 4 × 2 + 10 = 36 min.
+    expect(coloniesPerCrewDay(36, CREW)).toBe(5);
+    // A little less fits only 4: 15 + 4 × 0.6 + 3 × 2 + 10 = 33.4 ≤ 35.9 < 36.
+    expect(coloniesPerCrewDay(35.9, CREW)).toBe(4);
+    // Two vaporizers: 6 colonies are 3 cycles, exactly 15 + 3 × 0.6 + 2 × 2 + 10 = 30.8 min.
+    expect(coloniesPerCrewDay(30.8, { ...CREW, vaporizers: 2 })).toBe(6);
+    // Three vaporizers: 15 + c × 0.6 + (c − 1) × 2 + 10 = 23 + 2.6c ≤ 38.6 → c ≤ 6 cycles → 18.
+    expect(coloniesPerCrewDay(38.6, { ...CREW, vaporizers: 3 })).toBe(18);
+    // For any day: n fits and n + 1 does not (serviceMinutesForYard is pinned by the figures above).
     fc.assert(
       fc.property(fc.integer({ min: 0, max: 720 }), fc.integer({ min: 1, max: 4 }), (working, vaporizers) => {
         const crew = { ...CREW, vaporizers };

@@ -1,7 +1,6 @@
 import { describe, expect, it } from "vitest";
 import { addCalendarDays } from "~/domain/courses";
 import { defaultBusinessSettings, type BusinessSettings } from "~/domain/settings";
-import { serviceMinutesForYard } from "~/domain/service-time";
 import { yardTreatmentPlan } from "~/domain/treatment-plan";
 
 const settings: BusinessSettings = { ...defaultBusinessSettings, doseGramsPerBroodBox: 1, roundsWithBrood: 3, roundIntervalDays: 7 };
@@ -45,9 +44,10 @@ describe("yardTreatmentPlan", () => {
     expect(plan.vaporizers).toBe(3);
     // 2.5 g a colony does not fit one 2 g load: two loads each.
     expect(plan.loadsPerColony).toBe(2);
-    expect(plan.serviceMinutesPerRound).toBe(
-      serviceMinutesForYard({ ...settings, colonies: 6, vaporizers: 3, loadsPerColony: 2 }),
-    );
+    // Default times (35 s a dose, gap max(2 min move, 60 s reheat) = 2 min, 15 min set-up,
+    // 10 min entrance): 6 colonies × 2 loads on 3 vaporizers = 4 cycles →
+    // 15 + 4 × 35/60 + 3 × 2 + 10 = 15 + 2.333… + 6 + 10 = 33.333… min
+    expect(plan.serviceMinutesPerRound).toBeCloseTo(100 / 3, 12);
     const slower = yardTreatmentPlan(yard, settings, { firstDate: "2026-12-01", vaporizers: 1 });
     expect(slower.serviceMinutesPerRound).toBeGreaterThan(plan.serviceMinutesPerRound);
   });
@@ -85,7 +85,10 @@ describe("yardTreatmentPlan", () => {
     const twoLoads = yardTreatmentPlan(yard, { ...settings, vaporizerLoadGrams: 2 }, { firstDate: "2026-12-01", vaporizers: 2 });
     expect(oneLoad.loadsPerColony).toBe(1);
     expect(twoLoads.loadsPerColony).toBe(2);
-    expect(twoLoads.serviceMinutesPerRound).toBe(serviceMinutesForYard({ ...settings, colonies: 8, vaporizers: 2, loadsPerColony: 2 }));
+    // 8 colonies × 2 loads on 2 vaporizers = 8 cycles → 15 + 8 × 35/60 + 7 × 2 + 10 = 15 + 4.666… + 14 + 10 = 43.666… min
+    expect(twoLoads.serviceMinutesPerRound).toBeCloseTo(131 / 3, 12);
+    // one load each: 8 doses on 2 vaporizers = 4 cycles → 15 + 4 × 35/60 + 3 × 2 + 10 = 33.333… min
+    expect(oneLoad.serviceMinutesPerRound).toBeCloseTo(100 / 3, 12);
     expect(twoLoads.serviceMinutesPerRound).toBeGreaterThan(oneLoad.serviceMinutesPerRound);
     // The acid is the same; only the time grows.
     expect(twoLoads.dosePerRoundGrams).toBe(oneLoad.dosePerRoundGrams);
@@ -94,6 +97,7 @@ describe("yardTreatmentPlan", () => {
   it("still plans one load a colony for a dose of 0 g, so the visit keeps its time", () => {
     const plan = yardTreatmentPlan({ colonies: 4, broodBoxesPerColony: 0, broodStatus: "brood" }, settings, { firstDate: "2026-12-01" });
     expect(plan.loadsPerColony).toBe(1);
-    expect(plan.serviceMinutesPerRound).toBe(serviceMinutesForYard({ ...settings, colonies: 4, vaporizers: settings.vaporizersPerCrew }));
+    // 4 colonies × 1 load on the default 2 vaporizers = 2 cycles → 15 + 2 × 35/60 + 1 × 2 + 10 = 28.1666… min
+    expect(plan.serviceMinutesPerRound).toBeCloseTo(169 / 6, 12);
   });
 });
