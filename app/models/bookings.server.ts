@@ -1,14 +1,13 @@
 import type { Knex } from "knex";
-import { isBoxType } from "~/domain/box-types";
-import { gramsForColonies } from "~/domain/capacity";
 import { addCalendarDays, calendarDaysBetween, roundsNeeded, type BroodStatus } from "~/domain/courses";
 import { centigramsToGrams, gramsToCentigrams } from "~/domain/dose";
+import { gramsAtDosePerColony } from "~/domain/yard-colony-doses";
 import { bookingConfirmationEmail } from "~/emails/booking";
 import type { BookingInput } from "~/forms/booking";
 import { serverEnv } from "~/services/env.server";
 import { requestEmailDelivery } from "~/services/jobs.server";
 import { dateInZone } from "~/services/clock.server";
-import { lockDayForColonies } from "./capacity.server";
+import { lockDayForColonies, yardDosesPerColony } from "./capacity.server";
 import { queueEmail } from "./emails.server";
 import { loadBusinessSettings } from "./settings.server";
 
@@ -52,7 +51,7 @@ export async function bookYards(
       .whereNull("archived_at")
       .orderBy("id") // locked in id order, so two bookings of the same yards cannot deadlock
       .forUpdate()
-      .select("id", "name", "address", "colony_count", "brood_status", "box_type", "brood_boxes_per_colony");
+      .select("id", "name", "address", "colony_count", "brood_status");
     if (yards.length !== yardIds.length) throw new BookingRefused("One of the chosen yards is not in your account.", "yardIds");
     const empty = yards.find((y) => y.colony_count === 0);
     if (empty) throw new BookingRefused(`${empty.name} has no colonies to treat. Update the yard first.`, "yardIds");
@@ -67,14 +66,10 @@ export async function bookYards(
     }
 
     const colonies = yards.reduce((sum, y) => sum + y.colony_count, 0);
-    // The acid these yards take: each yard's colonies × its dose per colony (box type's rate × brood boxes).
-    const grams = centigramsToGrams(
-      yards.reduce(
-        (sum, y) =>
-          sum + gramsToCentigrams(gramsForColonies(y.colony_count, { boxType: isBoxType(y.box_type) ? y.box_type : "deep", broodBoxesPerColony: y.brood_boxes_per_colony }, settings)),
-        0,
-      ),
-    );
+    // The acid these yards take: each yard's colonies × its planned dose per colony, from its
+    // colonies as the crew last found them (the yard's own boxes when it has no colony rows).
+    const doses = await yardDosesPerColony(trx, settings, yards.map((y) => Number(y.id)));
+    const grams = centigramsToGrams(yards.reduce((sum, y) => sum + gramsToCentigrams(gramsAtDosePerColony(y.colony_count, doses.get(Number(y.id)) ?? 0)), 0));
     const room = await lockDayForColonies(trx, settings, input.serviceDate, colonies, grams);
     if (room.refusal === "closed") throw new BookingRefused("That day is not open for bookings. Choose another day.", "serviceDate");
     if (room.refusal === "full" && room.gramsShort && colonies <= room.remaining) {

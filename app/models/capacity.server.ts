@@ -1,21 +1,18 @@
 import type { Knex } from "knex";
-import { isBoxType } from "~/domain/box-types";
 import {
   coloniesStillFitting,
   crewWorksOn,
   dayCapacityColonies,
   dayCapacityGrams,
-  gramsBookedFor,
   gramsFit,
   gramsStillFitting,
-  yardDoseGramsPerColony,
   type CrewForCapacity,
-  type YardDoseShape,
 } from "~/domain/capacity";
 import { centigramsToGrams, gramsToCentigrams } from "~/domain/dose";
 import { addCalendarDays, calendarDaysBetween } from "~/domain/courses";
 import { parseClockTime } from "~/domain/units";
 import type { BusinessSettings } from "~/domain/settings";
+import { plannedYardDoses } from "./yard-doses.server";
 
 export type DayRoom = {
   date: string;
@@ -24,7 +21,7 @@ export type DayRoom = {
   remaining: number;
   /** Grams the working crews can apply together; null when grams do not bind the day (a crew without a gram limit, or no crew). */
   gramsCapacity: number | null;
-  /** Grams the day's visits take: colonies × their yard's dose per colony. */
+  /** Grams the day's visits take: colonies × their yard's planned dose per colony (from its colonies as the crew found them). */
   gramsBooked: number;
   /** Grams that still fit (never below 0); null when grams do not bind the day. */
   gramsRemaining: number | null;
@@ -114,39 +111,33 @@ function dayRoom(
   };
 }
 
-type BookedShape = YardDoseShape & { serviceDate: string; colonies: number };
+type BookedYard = { serviceDate: string; yardId: number; colonies: number };
 
-/**
- * Colonies booked from `from` to `to`, per day and yard shape (box type, brood boxes per
- * colony): visits taking room, each at its yard's current boxes, which the crew doses.
- */
-async function bookedShapes(db: Knex, from: string, to: string): Promise<BookedShape[]> {
+/** Colonies booked from `from` to `to`, per day and yard: visits taking room. */
+async function bookedYards(db: Knex, from: string, to: string): Promise<BookedYard[]> {
   const rows = (await db("visits")
-    .join("yards", "yards.id", "visits.yard_id")
-    .whereBetween("visits.service_date", [from, to])
-    .whereIn("visits.status", STATUSES_TAKING_ROOM)
-    .groupBy("visits.service_date", "yards.box_type", "yards.brood_boxes_per_colony")
-    .select("visits.service_date", "yards.box_type", "yards.brood_boxes_per_colony", db.raw("sum(visits.colonies_expected)::int as colonies"))) as unknown as {
-    service_date: string;
-    box_type: string;
-    brood_boxes_per_colony: number;
-    colonies: number;
-  }[];
-  return rows.map((r) => ({
-    serviceDate: r.service_date,
-    // The column is checked to one of the types; deep (the label's own rate) if ever not.
-    boxType: isBoxType(r.box_type) ? r.box_type : "deep",
-    broodBoxesPerColony: Number(r.brood_boxes_per_colony),
-    colonies: Number(r.colonies),
-  }));
+    .whereBetween("service_date", [from, to])
+    .whereIn("status", STATUSES_TAKING_ROOM)
+    .groupBy("service_date", "yard_id")
+    .select("service_date", "yard_id", db.raw("sum(colonies_expected)::int as colonies"))) as unknown as { service_date: string; yard_id: number; colonies: number }[];
+  return rows.map((r) => ({ serviceDate: r.service_date, yardId: Number(r.yard_id), colonies: Number(r.colonies) }));
 }
 
-function bookedByDay(shapes: readonly BookedShape[], settings: BusinessSettings): Map<string, { colonies: number; grams: number }> {
-  const byDate = new Map<string, BookedShape[]>();
-  for (const shape of shapes) byDate.set(shape.serviceDate, [...(byDate.get(shape.serviceDate) ?? []), shape]);
-  return new Map(
-    [...byDate].map(([date, list]) => [date, { colonies: list.reduce((sum, s) => sum + s.colonies, 0), grams: gramsBookedFor(list, settings) }]),
-  );
+/**
+ * Colonies and grams booked per day: each yard's colonies × its planned dose per colony —
+ * its colonies as the crew last found them (yard-doses.server.ts), which the crew doses.
+ */
+async function bookedByDay(db: Knex, settings: BusinessSettings, from: string, to: string): Promise<Map<string, { colonies: number; grams: number }>> {
+  // One query after the other: `db` may be a transaction.
+  const booked = await bookedYards(db, from, to);
+  const doses = await plannedYardDoses(db, settings, booked.map((b) => b.yardId));
+  const sums = new Map<string, { colonies: number; centigrams: number }>();
+  for (const b of booked) {
+    const sum = sums.get(b.serviceDate) ?? { colonies: 0, centigrams: 0 };
+    const perColony = gramsToCentigrams(doses.get(b.yardId)?.dosePerColonyGrams ?? 0);
+    sums.set(b.serviceDate, { colonies: sum.colonies + b.colonies, centigrams: sum.centigrams + b.colonies * perColony });
+  }
+  return new Map([...sums].map(([date, sum]) => [date, { colonies: sum.colonies, grams: centigramsToGrams(sum.centigrams) }]));
 }
 
 /** Room per day from `from` to `to` (inclusive): capacity, colonies booked, colonies still fitting, and the same in grams. */
@@ -155,7 +146,7 @@ export async function roomBetween(db: Knex, settings: BusinessSettings, from: st
   const crews = await activeCrews(db);
   const closures = await closedCrewDays(db, from, to);
   const days = await db("service_days").whereBetween("service_date", [from, to]).select("service_date", "capacity_colonies", "closed");
-  const booked = bookedByDay(await bookedShapes(db, from, to), settings);
+  const booked = await bookedByDay(db, settings, from, to);
   const dayByDate = new Map(days.map((d) => [d.service_date, d]));
   const out: DayRoom[] = [];
   const count = calendarDaysBetween(from, to);
@@ -174,7 +165,7 @@ export async function lockDayRoom(trx: Knex.Transaction, settings: BusinessSetti
   const day = await trx("service_days").where({ service_date: date }).forUpdate().first();
   // Read after the lock: a crew-day closure takes this same lock, so what is read here holds.
   const crews = await activeCrewsForCapacity(trx, date);
-  const booked = bookedByDay(await bookedShapes(trx, date, date), settings);
+  const booked = await bookedByDay(trx, settings, date, date);
   return dayRoom(date, crews, settings, day, booked.get(date) ?? { colonies: 0, grams: 0 });
 }
 
@@ -235,11 +226,14 @@ export async function lockDaysForColonies(
   return checks;
 }
 
-/** The dose per colony of each yard (box type's rate × brood boxes per colony), by yard id. */
+/**
+ * The dose per colony each yard is planned with, by yard id: the average of its active
+ * colonies' doses as the crew last found them, rounded up to 0.01 g; the yard's own figures
+ * (box type's rate × brood boxes per colony) when it has no active colony.
+ */
 export async function yardDosesPerColony(db: Knex, settings: BusinessSettings, yardIds: readonly number[]): Promise<Map<number, number>> {
-  if (yardIds.length === 0) return new Map();
-  const rows = await db("yards").whereIn("id", [...new Set(yardIds)]).select("id", "box_type", "brood_boxes_per_colony");
-  return new Map(rows.map((r) => [Number(r.id), yardDoseGramsPerColony({ boxType: isBoxType(r.box_type) ? r.box_type : "deep", broodBoxesPerColony: Number(r.brood_boxes_per_colony) }, settings)]));
+  const doses = await plannedYardDoses(db, settings, yardIds);
+  return new Map([...doses].map(([id, dose]) => [id, dose.dosePerColonyGrams]));
 }
 
 /** The dose per colony of each visit's yard (see yardDosesPerColony), by visit id. */

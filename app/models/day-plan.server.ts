@@ -2,12 +2,13 @@ import type { Knex } from "knex";
 import { formatServiceDate } from "~/components/format";
 import { addCalendarDays, calendarDaysBetween, isIsoDate } from "~/domain/courses";
 import type { BoxType } from "~/domain/box-types";
-import { doseGramsForRun, doseGramsForYard, gramsToCentigrams } from "~/domain/dose";
+import { doseGramsForRun, gramsToCentigrams } from "~/domain/dose";
+import { windowForPreference } from "~/domain/time-windows";
 import { planDay, recomputeTimes, type CrewRun, type PlanCrew, type PlanVisit, type TimeWindow, type TravelMatrix } from "~/domain/planner";
 import { serviceMinutesForYard } from "~/domain/service-time";
-import { colonyDose } from "~/domain/treatment-plan";
 import type { BusinessSettings } from "~/domain/settings";
 import type { LatLng } from "~/domain/travel";
+import { gramsAtDosePerColony, type PlannedColonyDose } from "~/domain/yard-colony-doses";
 import { parseClockTime } from "~/domain/units";
 import { minutesAfterZonedMidnight, zonedClockTime, zonedDateTimeToInstant } from "~/domain/zoned-time";
 import { runPublishedEmail } from "~/emails/run";
@@ -20,6 +21,7 @@ import { queueEmail } from "./emails.server";
 import { loadBusinessSettings } from "./settings.server";
 import type { RunRow, TimePreference } from "./tables";
 import { rescheduleVisit, VisitChangeRefused } from "./visit-changes.server";
+import { plannedYardDoses } from "./yard-doses.server";
 
 // The dispatcher's day: planning a service day's runs with the route planner
 // (app/domain/planner), moving and locking stops, publishing runs to crews, and moving
@@ -63,7 +65,6 @@ const UNDER_WAY = ["in_progress", "done"] as const;
 /** Run statuses a crew sees. */
 export const CREW_VISIBLE_RUN_STATUSES = ["published", "in_progress", "done"] as const;
 
-const NOON = 12 * 60;
 const EPSILON_MINUTES = 1e-6;
 
 export type LabelledPoint = LatLng & { label: string };
@@ -115,9 +116,12 @@ export type DayVisit = {
   colonies: number;
   broodBoxesPerColony: number;
   boxType: BoxType;
-  /** Vaporizer loads each colony's dose takes (≥ 1); the time at the yard grows with them. */
+  /**
+   * Vaporizer loads per colony (≥ 1): the most any of the yard's colonies takes, as the crew
+   * last found them (the yard's boxes when it has no colony rows); the time at the yard grows with them.
+   */
   loadsPerColony: number;
-  /** Grams of oxalic acid dihydrate for the visit, at the yard's box type rate. */
+  /** Grams of oxalic acid dihydrate for the visit: colonies × the yard's planned dose per colony (yard-doses.server.ts). */
   grams: number;
   timePreference: TimePreference;
   /** Minutes after midnight: service starts at or after startMin and ends by endMin. */
@@ -275,19 +279,7 @@ function toDayCrew(row: CrewQueryRow, members: DayCrew["members"]): DayCrew {
   };
 }
 
-/** A visit's service window from its time preference and the working hours of the day's crews. */
-export function windowForPreference(preference: TimePreference, crews: readonly Pick<DayCrew, "workStartMin" | "workEndMin">[]): TimeWindow {
-  const dayStart = crews.length > 0 ? Math.min(...crews.map((c) => c.workStartMin)) : 8 * 60;
-  const dayEnd = crews.length > 0 ? Math.max(...crews.map((c) => c.workEndMin)) : 17 * 60;
-  switch (preference) {
-    case "morning":
-      return { startMin: Math.min(dayStart, NOON), endMin: NOON };
-    case "afternoon":
-      return { startMin: NOON, endMin: Math.max(dayEnd, NOON) };
-    default:
-      return { startMin: dayStart, endMin: dayEnd };
-  }
-}
+export { windowForPreference };
 
 type LoadedDay = {
   date: string;
@@ -379,9 +371,11 @@ async function loadDay(db: Knex, date: string, settings: BusinessSettings, lock:
   const visitsById = new Map<number, DayVisit>();
   const stopsByRun = new Map<number, (DayStop & { visitId: number })[]>();
   const windowCrews = activeCrews.length > 0 ? activeCrews : [...crews.values()];
+  // Each yard's dose from its colonies as the crew last found them, in one query for the day.
+  const doses = await plannedYardDoses(db, settings, visitRows.map((r) => Number(r.yard_id)));
   for (const row of visitRows) {
     const window = windowForPreference(row.time_preference, windowCrews);
-    const dose = colonyDose({ broodBoxesPerColony: row.brood_boxes_per_colony, boxType: row.box_type }, settings);
+    const dose = plannedDoseOf(doses, row.yard_id);
     const stop: DayStop | null =
       row.stop_id != null && runIds.includes(Number(row.run_id))
         ? {
@@ -413,7 +407,7 @@ async function loadDay(db: Knex, date: string, settings: BusinessSettings, lock:
       broodBoxesPerColony: row.brood_boxes_per_colony,
       boxType: row.box_type,
       loadsPerColony: dose.loadsPerColony,
-      grams: visitGrams(row.colonies_expected, dose),
+      grams: gramsAtDosePerColony(row.colonies_expected, dose.dosePerColonyGrams),
       timePreference: row.time_preference,
       window,
       windowLabel: `${clock(window.startMin)}–${clock(window.endMin)}`,
@@ -567,9 +561,11 @@ class PointIndex {
   }
 }
 
-/** Grams for a visit: its colonies × one colony's dose at the yard's box type rate. */
-function visitGrams(colonies: number, dose: { broodBoxesPerColony: number; doseRateGrams: number }): number {
-  return doseGramsForYard({ colonies, broodBoxesPerColony: dose.broodBoxesPerColony }, dose.doseRateGrams);
+/** A yard's planned dose (yard-doses.server.ts always answers for a yard it was asked about). */
+function plannedDoseOf(doses: ReadonlyMap<number, PlannedColonyDose>, yardId: number | string): PlannedColonyDose {
+  const dose = doses.get(Number(yardId));
+  if (!dose) throw new Error(`no planned dose for yard ${yardId}`);
+  return dose;
 }
 
 function serviceMinutes(settings: BusinessSettings, colonies: number, vaporizers: number, loadsPerColony: number): number {
@@ -1183,15 +1179,15 @@ export async function publishRun(db: Knex, input: { runId: number; actorUserId: 
       .join("yards", "yards.id", "visits.yard_id")
       .where("stops.run_id", run.id)
       .orderBy("stops.position")
-      .select("stops.position", "stops.arrive_at", "yards.name as yard_name", "visits.colonies_expected", "yards.brood_boxes_per_colony", "yards.box_type")) as {
+      .select("stops.position", "stops.arrive_at", "yards.name as yard_name", "visits.colonies_expected", "visits.yard_id")) as {
       position: number;
       arrive_at: Date;
       yard_name: string;
       colonies_expected: number;
-      brood_boxes_per_colony: number;
-      box_type: BoxType;
+      yard_id: number;
     }[];
     if (stops.length === 0) throw new DayPlanRefused("That run has no stops to publish.", "no_stops");
+    const doses = await plannedYardDoses(trx, settings, stops.map((s) => Number(s.yard_id)));
     await trx("runs")
       .where({ id: run.id })
       .update({ status: "published", published_at: trx.fn.now() as unknown as Date, published_by: Number(input.actorUserId), updated_at: trx.fn.now() as unknown as Date });
@@ -1208,7 +1204,7 @@ export async function publishRun(db: Knex, input: { runId: number; actorUserId: 
       yardName: s.yard_name,
       arrive: zonedClockTime(new Date(s.arrive_at), settings.timeZone),
       colonies: s.colonies_expected,
-      grams: visitGrams(s.colonies_expected, colonyDose({ broodBoxesPerColony: s.brood_boxes_per_colony, boxType: s.box_type }, settings)),
+      grams: gramsAtDosePerColony(s.colonies_expected, plannedDoseOf(doses, s.yard_id).dosePerColonyGrams),
     }));
     const email = runPublishedEmail({
       crewName: base.crewName,

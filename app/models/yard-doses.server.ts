@@ -1,0 +1,53 @@
+import type { Knex } from "knex";
+import { isBoxType, type BoxType } from "~/domain/box-types";
+import { plannedColonyDose, type ColoniesOfShape, type PlannedColonyDose, type PlannedDoseSettings } from "~/domain/yard-colony-doses";
+
+// The dose each yard is planned with, from its active colonies as the crew last corrected
+// them (app/domain/yard-colony-doses.ts); the yard's own figures when it has none.
+
+/** The column is checked to one of the types; deep (the label's own rate) if ever not. */
+function boxTypeOf(value: unknown): BoxType {
+  return isBoxType(value) ? value : "deep";
+}
+
+type ShapeRow = {
+  yard_id: number;
+  yard_box_type: string;
+  brood_boxes_per_colony: number;
+  colony_box_type: string | null;
+  colony_brood_boxes: number | null;
+  colonies: number;
+};
+
+/**
+ * The planned colony dose of each yard (grams per colony, vaporizer loads per colony), by
+ * yard id. One query for all the yards: their active colonies counted per shape.
+ */
+export async function plannedYardDoses(db: Knex, settings: PlannedDoseSettings, yardIds: readonly number[]): Promise<Map<number, PlannedColonyDose>> {
+  const ids = [...new Set(yardIds.map(Number))];
+  if (ids.length === 0) return new Map();
+  const rows = (await db("yards")
+    .leftJoin("colonies", (join) => join.on("colonies.yard_id", "=", "yards.id").andOnVal("colonies.active", "=", true))
+    .whereIn("yards.id", ids)
+    .groupBy("yards.id", "yards.box_type", "yards.brood_boxes_per_colony", "colonies.box_type", "colonies.brood_boxes")
+    .select(
+      "yards.id as yard_id",
+      "yards.box_type as yard_box_type",
+      "yards.brood_boxes_per_colony",
+      "colonies.box_type as colony_box_type",
+      "colonies.brood_boxes as colony_brood_boxes",
+      db.raw("count(colonies.id)::int as colonies"),
+    )) as unknown as ShapeRow[];
+
+  const byYard = new Map<number, { yard: { boxType: BoxType; broodBoxesPerColony: number }; colonies: ColoniesOfShape[] }>();
+  for (const row of rows) {
+    const id = Number(row.yard_id);
+    const entry = byYard.get(id) ?? { yard: { boxType: boxTypeOf(row.yard_box_type), broodBoxesPerColony: Number(row.brood_boxes_per_colony) }, colonies: [] };
+    // A yard without an active colony comes back as one row of nulls, counted 0.
+    if (row.colony_brood_boxes != null && Number(row.colonies) > 0) {
+      entry.colonies.push({ broodBoxes: Number(row.colony_brood_boxes), boxType: boxTypeOf(row.colony_box_type), count: Number(row.colonies) });
+    }
+    byYard.set(id, entry);
+  }
+  return new Map([...byYard].map(([id, { yard, colonies }]) => [id, plannedColonyDose(colonies, yard, settings)]));
+}
