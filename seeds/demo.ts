@@ -1,8 +1,10 @@
 import type { Knex } from "knex";
 import bcrypt from "bcryptjs";
 import { invoiceForVisit, formatInvoiceNumber } from "../app/domain/billing.ts";
-import { doseGramsForColonyOfType } from "../app/domain/box-types.ts";
+import { doseGramsForColonyOfType, type BoxType } from "../app/domain/box-types.ts";
+import { haversineKilometres, type LatLng } from "../app/domain/geo.ts";
 import { businessSettingsSchema } from "../app/domain/settings.ts";
+import { timeDemoRun } from "./demo-timing.ts";
 
 // Demo data for Varroute: a fictional two-crew oxalic acid vapor contractor,
 // "Bramblecomb Hive Care", working out of Ithaca, New York, with invented hobbyist
@@ -28,9 +30,11 @@ export const DEMO_SIGN_INS = {
   customer: "customer@demo.varroute.test",
 } as const;
 
-// The demo business's settings, saved as its settings: the demo's invoices and doses are
-// computed from these with the app's own billing and dose functions, so what the demo shows
-// is what the app would have made itself.
+// The demo business's settings, saved as its settings: the demo's invoices, doses and run
+// times are computed from these with the app's own billing, dose, service-time and
+// drive-estimate functions, so what the demo shows is what the app would have made itself.
+// The figures left out keep their defaults (among them the drive estimate, circuity 1.2 at
+// 60 km/h, and the service-time model's set-up and hive-cycle figures).
 export const DEMO_SETTINGS = businessSettingsSchema.parse({
   businessName: DEMO_BUSINESS_NAME,
   businessAddress: "12 Kiln Lane, Ithaca, NY 14850",
@@ -47,17 +51,6 @@ export const DEMO_SETTINGS = businessSettingsSchema.parse({
 });
 const PAYMENT_TERMS_DAYS = DEMO_SETTINGS.paymentTermsDays;
 const BCRYPT_COST = 10;
-
-// Drive and service time used to lay out the demo runs (the planner has its own settings).
-const ROAD_CIRCUITY = 1.3; // sources.md: 1.2–1.3
-const AVERAGE_KMH = 59.5; // sources.md: rural average about 37 mph
-const SETUP_SECONDS = 600; // unload, suit up, light the vaporizers
-const PACK_UP_SECONDS = 300;
-const WALK_IN_SECONDS = 300; // park and walk to the hives
-const SECONDS_PER_HIVE_CYCLE = 150; // dose sublimates ~30–40 s, block reheats while the crew moves on
-const WORK_START = 8 * 3600;
-const WORK_END = 17 * 3600;
-const NOON = 12 * 3600;
 
 // ---------------------------------------------------------------- randomness
 
@@ -187,23 +180,12 @@ function todayInBusinessZone(now: Date): string {
 function hm(h: number, m = 0): number {
   return h * 3600 + m * 60;
 }
-function ceilMinute(seconds: number): number {
-  return Math.ceil(seconds / 60) * 60;
+/** "08:00" for minutes after midnight. */
+function clock(minutes: number): string {
+  return `${String(Math.floor(minutes / 60)).padStart(2, "0")}:${String(minutes % 60).padStart(2, "0")}`;
 }
 
 // ---------------------------------------------------------------- places
-
-type LatLng = { lat: number; lng: number };
-
-function haversineKm(a: LatLng, b: LatLng): number {
-  const R = 6371.0088;
-  const rad = Math.PI / 180;
-  const dLat = (b.lat - a.lat) * rad;
-  const dLng = (b.lng - a.lng) * rad;
-  const h =
-    Math.sin(dLat / 2) ** 2 + Math.cos(a.lat * rad) * Math.cos(b.lat * rad) * Math.sin(dLng / 2) ** 2;
-  return 2 * R * Math.asin(Math.min(1, Math.sqrt(h)));
-}
 
 const ITHACA: LatLng = { lat: 42.444, lng: -76.5019 };
 const MAX_KM_FROM_ITHACA = 60;
@@ -242,7 +224,7 @@ export function assertDemoPlacesOnLand(points: ReadonlyArray<LatLng & { label: s
   for (const p of points) {
     const lake = lakeAt(p);
     if (lake) bad.push(`${p.label} (${p.lat}, ${p.lng}) is in ${lake}`);
-    const km = haversineKm(ITHACA, p);
+    const km = haversineKilometres(ITHACA, p);
     if (km > MAX_KM_FROM_ITHACA) bad.push(`${p.label} is ${km.toFixed(1)} km from Ithaca`);
   }
   if (bad.length > 0) throw new Error(`demo seed: places not on land or too far:\n${bad.join("\n")}`);
@@ -426,6 +408,7 @@ interface DemoCustomer {
 interface DemoColony {
   label: string;
   broodBoxes: number;
+  boxType: BoxType;
   brood: Brood;
   active: boolean;
   notes: string | null;
@@ -441,6 +424,7 @@ interface DemoYard {
   access: string;
   colonyCount: number;
   boxes: number;
+  boxType: BoxType;
   brood: Brood;
   supersOff: boolean;
   colonies: DemoColony[];
@@ -451,6 +435,9 @@ interface DemoCrew {
   name: string;
   startLabel: string;
   start: LatLng;
+  /** Working hours, minutes after midnight. */
+  workStartMin: number;
+  workEndMin: number;
   vaporizers: number;
   /** ISO weekdays worked (1 = Monday … 7 = Sunday). */
   workingWeekdays: number[];
@@ -489,6 +476,8 @@ interface DemoTally {
   skipReason: string | null;
   skipNote: string | null;
   broodBoxes: number;
+  /** The box type the dose was worked out for. */
+  boxType: BoxType;
   doseGrams: number;
   mites: number | null;
   beesSampled: number | null;
@@ -573,14 +562,6 @@ interface DemoInvoice {
 
 // ---------------------------------------------------------------- route timing
 
-function driveLeg(a: LatLng, b: LatLng): { seconds: number; meters: number } {
-  const km = haversineKm(a, b) * ROAD_CIRCUITY;
-  return { seconds: Math.round((km / AVERAGE_KMH) * 3600), meters: Math.round(km * 1000) };
-}
-function serviceSeconds(colonies: number, vaporizers: number): number {
-  return SETUP_SECONDS + Math.ceil(colonies / vaporizers) * SECONDS_PER_HIVE_CYCLE + PACK_UP_SECONDS;
-}
-
 interface PlannedStop {
   visit: DemoVisit;
   arrive: number;
@@ -598,8 +579,12 @@ interface CrewDayPlan {
   fits: boolean;
 }
 
-/** Nearest-neighbour order (morning wishes first, afternoon last) and times from 08:00. */
-export function planCrewDay(crew: DemoCrew, visits: readonly DemoVisit[]): CrewDayPlan {
+/**
+ * Nearest-neighbour order (morning wishes first, afternoon last), timed with the app's rules
+ * (seeds/demo-timing.ts) from the crew's start of work. `dayCrews` are the crews of the day,
+ * whose working hours set the time windows.
+ */
+export function planCrewDay(crew: DemoCrew, visits: readonly DemoVisit[], dayCrews: readonly DemoCrew[]): CrewDayPlan {
   const order: DemoVisit[] = [];
   let here = crew.start;
   for (const pref of ["morning", "any", "afternoon"] as const) {
@@ -607,43 +592,39 @@ export function planCrewDay(crew: DemoCrew, visits: readonly DemoVisit[]): CrewD
     while (rest.length > 0) {
       let best = 0;
       for (let i = 1; i < rest.length; i++) {
-        if (haversineKm(here, rest[i].yard.point) < haversineKm(here, rest[best].yard.point)) best = i;
+        if (haversineKilometres(here, rest[i].yard.point) < haversineKilometres(here, rest[best].yard.point)) best = i;
       }
       const [next] = rest.splice(best, 1);
       order.push(next);
       here = next.yard.point;
     }
   }
-  const stops: PlannedStop[] = [];
-  let t = WORK_START;
-  let at = crew.start;
-  let driveSeconds = 0;
-  let driveMeters = 0;
-  let fits = true;
-  for (const visit of order) {
-    const leg = driveLeg(at, visit.yard.point);
-    const arrive = ceilMinute(t + leg.seconds);
-    let start = arrive + WALK_IN_SECONDS;
-    if (visit.pref === "afternoon" && start < NOON) start = NOON;
-    if (visit.pref === "morning" && start >= NOON) fits = false;
-    const leave = ceilMinute(start + serviceSeconds(visit.coloniesExpected, crew.vaporizers));
-    stops.push({ visit, arrive, start, leave, driveSeconds: leg.seconds, driveMeters: leg.meters });
-    driveSeconds += leg.seconds;
-    driveMeters += leg.meters;
-    t = leave;
-    at = visit.yard.point;
-  }
-  const back = driveLeg(at, crew.start);
-  driveSeconds += back.seconds;
-  driveMeters += back.meters;
-  const end = t + back.seconds;
-  if (end > WORK_END) fits = false;
-  return { crew, stops, end, driveSeconds, driveMeters, fits };
+  const timed = timeDemoRun(
+    crew,
+    order.map((v) => ({
+      point: v.yard.point,
+      pref: v.pref,
+      bookedAt: v.course.booking.createdAt,
+      colonies: v.coloniesExpected,
+      broodBoxesPerColony: v.yard.boxes,
+      boxType: v.yard.boxType,
+    })),
+    dayCrews,
+    DEMO_SETTINGS,
+  );
+  return {
+    crew,
+    stops: timed.stops.map((s, i) => ({ visit: order[i], ...s })),
+    end: timed.end,
+    driveSeconds: timed.driveSeconds,
+    driveMeters: timed.driveMeters,
+    fits: timed.fits,
+  };
 }
 
 /** Splits one past service day between the crews so every visit fits in working hours. */
 function planServiceDay(date: string, visits: readonly DemoVisit[], crews: readonly DemoCrew[]): CrewDayPlan[] {
-  const singles = crews.map((c) => planCrewDay(c, visits)).filter((p) => p.fits);
+  const singles = crews.map((c) => planCrewDay(c, visits, crews)).filter((p) => p.fits);
   const comfortable = singles.filter((p) => p.end <= hm(14));
   if (comfortable.length > 0) {
     return [comfortable.reduce((a, b) => (b.driveSeconds < a.driveSeconds ? b : a))];
@@ -662,8 +643,8 @@ function planServiceDay(date: string, visits: readonly DemoVisit[], crews: reado
       const a = rotated.slice(0, k);
       const b = rotated.slice(k);
       for (const [ca, cb] of [[crews[0], crews[1]], [crews[1], crews[0]]] as const) {
-        const pa = planCrewDay(ca, a);
-        const pb = planCrewDay(cb, b);
+        const pa = planCrewDay(ca, a, crews);
+        const pb = planCrewDay(cb, b, crews);
         if (!pa.fits || !pb.fits) continue;
         const lonelyStop = (pa.stops.length === 1 ? 3600 : 0) + (pb.stops.length === 1 ? 3600 : 0);
         const score = Math.max(pa.end, pb.end) + (pa.driveSeconds + pb.driveSeconds) / 2 + lonelyStop;
@@ -728,6 +709,8 @@ export function buildDemoPlan(today: string): DemoPlan {
       name: "Crew 1",
       startLabel: `${DEMO_BUSINESS_NAME} shop, 12 Kiln Lane, Ithaca`,
       start: { lat: 42.428, lng: -76.478 },
+      workStartMin: 8 * 60,
+      workEndMin: 17 * 60,
       vaporizers: 2,
       // The owner's own crew also takes Saturdays in the short treatment season.
       workingWeekdays: [1, 2, 3, 4, 5, 6],
@@ -739,6 +722,8 @@ export function buildDemoPlan(today: string): DemoPlan {
       name: "Crew 2",
       startLabel: `${DEMO_BUSINESS_NAME} lock-up, 5 Mill Pond Rd, Dryden`,
       start: { lat: 42.486, lng: -76.301 },
+      workStartMin: 8 * 60,
+      workEndMin: 17 * 60,
       vaporizers: 1,
       // Weekdays only, and no more colonies than one vaporizer's crew works through in a long
       // day (a generous ceiling: the working hours bind first).
@@ -798,6 +783,8 @@ export function buildDemoPlan(today: string): DemoPlan {
         access: places.chance(0.9) ? places.pick(ACCESS_NOTES)(places) : "",
         colonyCount,
         boxes,
+        // Every demo yard keeps deep brood boxes, the box the label's rate is given for.
+        boxType: "deep",
         brood,
         supersOff: places.chance(0.86),
         colonies: [],
@@ -808,6 +795,7 @@ export function buildDemoPlan(today: string): DemoPlan {
         yard.colonies.push({
           label: `H${c}`,
           broodBoxes: odd ? 3 - boxes : boxes,
+          boxType: yard.boxType,
           brood: brood !== "unknown" && places.chance(0.1) ? (brood === "brood" ? "broodless" : "brood") : brood,
           active: true,
           notes: places.chance(0.15) ? places.pick(COLONY_NOTES) : null,
@@ -970,7 +958,7 @@ export function buildDemoPlan(today: string): DemoPlan {
   const upcoming = byCategory("upcoming");
   const nearShop = [...upcoming.filter((y) => y !== demoThird)]
     .filter((y) => y.colonyCount <= 10)
-    .sort((a, b) => haversineKm(crews[0].start, a.point) - haversineKm(crews[0].start, b.point));
+    .sort((a, b) => haversineKilometres(crews[0].start, a.point) - haversineKilometres(crews[0].start, b.point));
   // New bookings fill today and the next working day up to about five visits each
   // (follow-up rounds of courses under way are already there).
   const todayCount = Math.max(1, DAY_TARGET - load(today));
@@ -1029,10 +1017,10 @@ export function buildDemoPlan(today: string): DemoPlan {
   }
   for (const d of [today, n1]) {
     const dayVisits = activeVisitsOn(d).sort((a, b) => a.coloniesExpected - b.coloniesExpected);
-    let plan = planCrewDay(crews[0], dayVisits);
+    let plan = planCrewDay(crews[0], dayVisits, crews);
     while (!plan.fits && dayVisits.length > 1) {
       dayVisits.pop(); // the largest yards stay unrouted for the dispatcher
-      plan = planCrewDay(crews[0], dayVisits);
+      plan = planCrewDay(crews[0], dayVisits, crews);
     }
     if (plan.fits && plan.stops.length > 0) makeRun(plan, d, "published");
   }
@@ -1065,7 +1053,8 @@ export function buildDemoPlan(today: string): DemoPlan {
         skipReason: null,
         skipNote: null,
         broodBoxes: colony.broodBoxes,
-        doseGrams: doseGramsForColonyOfType(colony.broodBoxes, "deep", DEMO_SETTINGS),
+        boxType: colony.boxType,
+        doseGrams: doseGramsForColonyOfType(colony.broodBoxes, colony.boxType, DEMO_SETTINGS),
         mites: null,
         beesSampled: null,
         notes: null,
@@ -1230,7 +1219,7 @@ export function checkPlan(plan: DemoPlan): void {
   const problems: string[] = [];
   for (const y of plan.yards) {
     if (y.colonyCount < 1 || y.colonyCount > 24) problems.push(`${y.name}: ${y.colonyCount} colonies`);
-    if (haversineKm(y.point, y.town.centre) > 1.5001) problems.push(`${y.name}: more than 1.5 km from ${y.town.name}`);
+    if (haversineKilometres(y.point, y.town.centre) > 1.5001) problems.push(`${y.name}: more than 1.5 km from ${y.town.name}`);
   }
   for (const run of plan.runs) {
     let last = 0;
@@ -1239,7 +1228,9 @@ export function checkPlan(plan: DemoPlan): void {
       if (s.arriveAt.getTime() < last) problems.push(`stops overlap on ${run.date}`);
       last = s.leaveAt.getTime();
     }
-    if (last > localTime(run.date, WORK_END).getTime()) problems.push(`${run.crew.name} on ${run.date} ends after 17:00`);
+    if (last > localTime(run.date, run.crew.workEndMin * 60).getTime()) {
+      problems.push(`${run.crew.name} on ${run.date} ends after ${clock(run.crew.workEndMin)}`);
+    }
   }
   for (const inv of plan.invoices) {
     const sum = inv.lines.reduce((s, l) => s + l.amountCents, 0);
@@ -1319,6 +1310,7 @@ async function writePlan(trx: Knex.Transaction, plan: DemoPlan): Promise<void> {
       access_notes: y.access,
       colony_count: y.colonyCount,
       brood_boxes_per_colony: y.boxes,
+      box_type: y.boxType,
       brood_status: y.brood,
       supers_off: y.supersOff,
       ...stamps(y.customer.createdAt),
@@ -1329,6 +1321,7 @@ async function writePlan(trx: Knex.Transaction, plan: DemoPlan): Promise<void> {
       yard_id: idOf(y),
       label: c.label,
       brood_boxes: c.broodBoxes,
+      box_type: c.boxType,
       brood_status: c.brood,
       active: c.active,
       notes: c.notes,
@@ -1350,8 +1343,8 @@ async function writePlan(trx: Knex.Transaction, plan: DemoPlan): Promise<void> {
       start_label: crew.startLabel,
       start_lat: crew.start.lat,
       start_lng: crew.start.lng,
-      work_start: "08:00",
-      work_end: "17:00",
+      work_start: clock(crew.workStartMin),
+      work_end: clock(crew.workEndMin),
       vaporizers: crew.vaporizers,
       working_weekdays: crew.workingWeekdays,
       max_colonies_per_day: crew.maxColoniesPerDay,
@@ -1457,6 +1450,7 @@ async function writePlan(trx: Knex.Transaction, plan: DemoPlan): Promise<void> {
         skip_reason: t.skipReason,
         skip_note: t.skipNote,
         brood_boxes: t.broodBoxes,
+        box_type: t.boxType,
         dose_grams: t.doseGrams.toFixed(2),
         mites: t.mites,
         bees_sampled: t.beesSampled,
