@@ -3,7 +3,7 @@ import { yardDoseGramsPerColony, type YardDoseShape } from "~/domain/capacity";
 import { centigramsToGrams, gramsToCentigrams } from "~/domain/dose";
 import type { BusinessSettings } from "~/domain/settings";
 import type { YardInput } from "~/forms/yard";
-import { lockDaysForColonies } from "./capacity.server";
+import { lockDaysForColonies, yardDosesPerColony } from "./capacity.server";
 import { loadBusinessSettings } from "./settings.server";
 
 /** A day with booked visits of the yard that cannot take the bigger colony count. */
@@ -89,10 +89,13 @@ type BookedVisit = { id: number; service_date: string; colonies_expected: number
  * booking and this edit cannot both take a day's last room). Visits that keep or lose
  * colonies and grams need no room and no lock.
  */
-async function holdRoomForBiggerVisits(trx: Knex.Transaction, visits: readonly BookedVisit[], before: YardDoseShape, input: YardInput) {
+async function holdRoomForBiggerVisits(trx: Knex.Transaction, yardId: number, visits: readonly BookedVisit[], before: YardDoseShape, input: YardInput) {
   const colonyCount = input.colonyCount;
   const settings: BusinessSettings = await loadBusinessSettings(trx);
-  const oldDose = gramsToCentigrams(yardDoseGramsPerColony(before, settings));
+  // What the day's booked grams count for this yard now: its colonies as the crew last found
+  // them (capacity.server.ts); the edit then sets every colony to the form's boxes.
+  const planned = (await yardDosesPerColony(trx, settings, [yardId])).get(yardId);
+  const oldDose = gramsToCentigrams(planned ?? yardDoseGramsPerColony(before, settings));
   const newDose = gramsToCentigrams(yardDoseGramsPerColony({ boxType: input.boxType, broodBoxesPerColony: input.broodBoxesPerColony }, settings));
   // Centigrams each visit adds: the day's booked grams read under the lock still count the old boxes.
   const gramsAdded = (v: BookedVisit) => colonyCount * newDose - v.colonies_expected * oldDose;
@@ -193,7 +196,7 @@ export async function updateYard(db: Knex, customerId: number | string, yardId: 
       .orderBy("id")
       .forUpdate()
       .select("id", "service_date", "colonies_expected");
-    await holdRoomForBiggerVisits(trx, booked, { boxType: before.box_type, broodBoxesPerColony: before.brood_boxes_per_colony }, input);
+    await holdRoomForBiggerVisits(trx, yardId, booked, { boxType: before.box_type, broodBoxesPerColony: before.brood_boxes_per_colony }, input);
     await trx("yards").where({ id: yardId }).update({ ...yardColumns(input), updated_at: trx.fn.now() });
     await matchColonies(trx, yardId, input);
     // Only the visits whose days were checked above; one added meanwhile (a next round) took

@@ -169,6 +169,25 @@ describe("a crew's daily gram limit in the booking capacity", () => {
     });
   });
 
+  it("counts a yard edit's added grams from the colonies as the crew found them, not the yard's old figure", async () => {
+    await aCrew(20);
+    // On record 2 deep boxes a colony, but the crew found 1 in each of the 4 colonies: the day
+    // counts 4 × 1 g = 4 g for this yard.
+    const ours = await aCustomerWithYard({ colonies: 4, boxType: "deep", boxes: 2 });
+    await db("colonies").insert(["H1", "H2", "H3", "H4"].map((label) => ({ yard_id: ours.yardId, label, brood_boxes: 1, box_type: "deep", brood_status: "broodless", active: true })));
+    await book(ours);
+    await aBookedYard({ colonies: 14, boxType: "deep", boxes: 1 }); // 14 g: 18 g booked, 2 g left
+    expect((await roomBetween(db, settings, day, day))[0]).toMatchObject({ gramsBooked: 18, gramsRemaining: 2 });
+    // Saving the yard as 4 colonies of 2 boxes sets every colony to 2 boxes: 8 g, 4 g more
+    // than the day counts now, and only 2 g are left.
+    await expect(updateYard(db, ours.customerId, ours.yardId, yardInput({ colonies: 4, boxType: "deep", boxes: 2 }), ours.userId)).rejects.toMatchObject({
+      constructor: YardEditRefused,
+      field: "colonyCount",
+    });
+    expect((await roomBetween(db, settings, day, day))[0]).toMatchObject({ gramsBooked: 18, gramsRemaining: 2 });
+    expect(await db("colonies").where({ yard_id: ours.yardId }).pluck("brood_boxes")).toEqual([1, 1, 1, 1]);
+  });
+
   it("refuses moving a visit to a day whose crews' grams it does not fit", async () => {
     await aCrew(20);
     const dispatcher = await db("users").insert({ email: `d${Math.random().toString(36).slice(2)}@example.test`, password_hash: "x", role: "dispatcher", name: "D" }).returning("id");
