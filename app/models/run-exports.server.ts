@@ -1,11 +1,13 @@
 import type { Knex } from "knex";
-import { doseGramsForRun, doseGramsForYard } from "~/domain/dose";
+import { doseGramsForRun } from "~/domain/dose";
+import { gramsAtDosePerColony } from "~/domain/yard-colony-doses";
 import type { RunExport } from "~/domain/exports/run-export";
 import { zonedClockTime } from "~/domain/zoned-time";
 import type { BoxType } from "~/domain/box-types";
 import { colonyDose } from "~/domain/treatment-plan";
 import { CREW_VISIBLE_RUN_STATUSES } from "./day-plan.server";
 import { loadBusinessSettings } from "./settings.server";
+import { plannedYardDoses } from "./yard-doses.server";
 import type { SessionUser } from "./users.server";
 
 // Runs as exports (GPX, iCalendar) for whoever may see them: the dispatcher and the owner
@@ -58,6 +60,7 @@ export async function runExportForUser(
     .select(
       "visits.id as visit_id",
       "visits.colonies_expected",
+      "yards.id as yard_id",
       "yards.name as yard_name",
       "yards.address",
       "yards.lat",
@@ -72,6 +75,7 @@ export async function runExportForUser(
     )) as {
     visit_id: number;
     colonies_expected: number;
+    yard_id: number;
     yard_name: string;
     address: string | null;
     lat: number;
@@ -84,6 +88,8 @@ export async function runExportForUser(
     start_at: Date;
     leave_at: Date;
   }[];
+  // Grams as the run was planned: each yard's colonies as the crew last found them.
+  const planned = await plannedYardDoses(db, settings, rows.map((row) => Number(row.yard_id)));
   const stops = rows.map((row, i) => {
     const arriveAt = new Date(row.arrive_at);
     const startAt = new Date(row.start_at);
@@ -98,9 +104,9 @@ export async function runExportForUser(
       accessNotes: row.access_notes,
       colonies: row.colonies_expected,
       broodBoxesPerColony: row.brood_boxes_per_colony,
-      doseGrams: doseGramsForYard(
-        { colonies: row.colonies_expected, broodBoxesPerColony: row.brood_boxes_per_colony },
-        colonyDose({ broodBoxesPerColony: row.brood_boxes_per_colony, boxType: row.box_type }, settings).doseRateGrams,
+      doseGrams: gramsAtDosePerColony(
+        row.colonies_expected,
+        planned.get(Number(row.yard_id))?.dosePerColonyGrams ?? colonyDose({ broodBoxesPerColony: row.brood_boxes_per_colony, boxType: row.box_type }, settings).dosePerColonyGrams,
       ),
       arriveAt,
       startAt,
