@@ -503,6 +503,11 @@ const SENTENCES: Record<string, Describe> = {
   },
   "customer.delete": () => "Deleted the customer's account",
   "customer.records_anonymised": (_f, b) => `Removed the deleted customer's name, address and treatment places from the application records${formatAuditDay(b.keptUntil) ? `, kept until ${formatAuditDay(b.keptUntil)}` : ""}`,
+  "customer.records_hold_extended": (_f, b, a) => {
+    const until = formatAuditDay(a.keptUntil);
+    const was = formatAuditDay(b.keptUntil);
+    return `Kept the deleted customer's application-record details longer${until ? ` (until ${until}${was ? `, was ${was}` : ""})` : ""}, as the record retention was raised`;
+  },
   "crew.create": (_f, _b, a) => {
     const name = text(a.name);
     return `Added the crew${name ? ` ${name}` : ""}${a.active === false ? " (inactive)" : ""}`;

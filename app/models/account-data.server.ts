@@ -543,6 +543,9 @@ export async function deleteCustomerAccount(
     // customer's name and address and the place of each treatment: with a treated colony,
     // those fields stay until keptUntil (the worker's sweep anonymises them after it);
     // without one, nothing needs them and they go now.
+    // The settings row shared-locked: an owner raising the retention meanwhile (which extends
+    // existing holds under that row's lock) either finishes first or waits for this deletion.
+    await trx("settings").where({ key: "business" }).forShare().first("key");
     const { recordRetentionYears } = await loadBusinessSettings(trx);
     const keptUntil = await recordsKeptUntilFor(trx, customerId, recordRetentionYears);
     await trx("customers")

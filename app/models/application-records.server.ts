@@ -9,17 +9,20 @@ import { loadBusinessSettings } from "./settings.server";
 
 // Application records: one line per finished visit (status done) — the day and clock times,
 // the customer and their address, the yard and where it is, the colonies treated and the
-// grams applied, the product and its registration number (from settings), who applied it
-// and their licence number, and the weather note.
+// grams applied, the product and its registration number, who applied it and their licence
+// number, and the weather note.
 //
 // The tallies are the truth: colonies treated are the visit's tallies with outcome
 // "treated" (not the booking's or the visit's expected count) and grams are the sum of
 // those tallies' doses, added in whole centigrams. The applicators are the crew members
 // who recorded the treated tallies (tallies.recorded_by), in the order they started; when
 // nothing was treated, or the recorders' accounts are gone, the member who finished the
-// visit (visits.finished_by). The crew is the one whose run held the visit (stops → runs),
-// else the crew that sent the finish (applied_changes). Anonymised customers stay, with the
-// name and address anonymising left.
+// visit (visits.finished_by). The product and the applicators (names and licence numbers)
+// are the ones kept on the visit when it was finished, so a later change of settings or of a
+// crew member's account does not rewrite past records; settings and accounts as they are now
+// only for visits finished before those were kept. The crew is the one whose run held the
+// visit (stops → runs), else the crew that sent the finish (applied_changes). Anonymised
+// customers stay, with the name and address anonymising left.
 
 export const RECORD_SORTS = ["date", "customer", "yard", "crew", "colonies", "grams"] as const;
 export type RecordSort = (typeof RECORD_SORTS)[number];
@@ -207,6 +210,7 @@ type RecordSqlRow = {
   air_temp_c: string | null;
   product_name: string | null;
   product_registration_number: string | null;
+  applicators: unknown;
   customer_id: number;
   customer_name: string;
   address_line: string | null;
@@ -240,7 +244,7 @@ function recordsSql(filters: RecordFilters): { sql: string; bindings: (string | 
   }
   const sql = `
     select v.id as visit_id, v.service_date,
-      coalesce(v.started_at, v.supers_confirmed_at) as started_at, v.finished_at, v.finished_by, v.weather_note, v.air_temp_c, v.product_name, v.product_registration_number,
+      coalesce(v.started_at, v.supers_confirmed_at) as started_at, v.finished_at, v.finished_by, v.weather_note, v.air_temp_c, v.product_name, v.product_registration_number, v.applicators,
       c.id as customer_id, c.name as customer_name, c.address_line, c.city, c.region, c.postal_code, c.anonymised_at,
       y.id as yard_id, y.name as yard_name, y.address as yard_address, y.lat, y.lng,
       k.crew_id, cr.name as crew_name,
@@ -279,11 +283,12 @@ function clockInZone(instant: Date, timeZone: string): string {
   return `${get("hour")}:${get("minute")}`;
 }
 
-/** The applicators of each visit: who recorded its treated tallies, else who finished it. */
-async function applicatorsByVisit(db: Knex, rows: RecordSqlRow[]): Promise<Map<number, RecordApplicator[]>> {
+// The applicators as the crew members' accounts say now: kept on the visit when it is
+// finished (applicatorsWhenFinished), as an account's name and licence change later.
+async function applicatorsFromAccounts(db: Knex, visits: { visit_id: number; finished_by: number | null }[]): Promise<Map<number, RecordApplicator[]>> {
   const out = new Map<number, RecordApplicator[]>();
-  if (rows.length === 0) return out;
-  const visitIds = rows.map((r) => r.visit_id);
+  if (visits.length === 0) return out;
+  const visitIds = visits.map((r) => r.visit_id);
   const recorders = (
     await db.raw<{ rows: { visit_id: number; name: string; applicator_licence: string | null }[] }>(
       `select t.visit_id, u.name, u.applicator_licence
@@ -299,16 +304,47 @@ async function applicatorsByVisit(db: Knex, rows: RecordSqlRow[]): Promise<Map<n
     list.push({ name: r.name, licence: r.applicator_licence?.trim() || null });
     out.set(Number(r.visit_id), list);
   }
-  const finisherIds = [...new Set(rows.filter((r) => !out.has(r.visit_id) && r.finished_by !== null).map((r) => Number(r.finished_by)))];
+  const finisherIds = [...new Set(visits.filter((r) => !out.has(r.visit_id) && r.finished_by !== null).map((r) => Number(r.finished_by)))];
   if (finisherIds.length > 0) {
     const users = await db("users").whereIn("id", finisherIds).select("id", "name", "applicator_licence");
     const byId = new Map(users.map((u) => [Number(u.id), u]));
-    for (const r of rows) {
+    for (const r of visits) {
       if (out.has(r.visit_id) || r.finished_by === null) continue;
       const u = byId.get(Number(r.finished_by));
       if (u) out.set(r.visit_id, [{ name: u.name, licence: u.applicator_licence?.trim() || null }]);
     }
   }
+  return out;
+}
+
+/**
+ * The applicators of a visit being finished by `finishedBy`, to keep on the visit
+ * (visits.applicators): who recorded its treated tallies, else who finished it, with the
+ * names and licence numbers on their accounts now.
+ */
+export async function applicatorsWhenFinished(db: Knex, visitId: number, finishedBy: number): Promise<RecordApplicator[]> {
+  return (await applicatorsFromAccounts(db, [{ visit_id: visitId, finished_by: finishedBy }])).get(visitId) ?? [];
+}
+
+const keptApplicatorsSchema = z.array(z.object({ name: z.string(), licence: z.string().nullable() }));
+
+/**
+ * The applicators of each visit: the ones kept on the visit when it was finished; from the
+ * accounts only for a visit finished without them (before they were kept).
+ */
+async function applicatorsByVisit(db: Knex, rows: RecordSqlRow[]): Promise<Map<number, RecordApplicator[]>> {
+  const out = new Map<number, RecordApplicator[]>();
+  const notKept: RecordSqlRow[] = [];
+  for (const r of rows) {
+    const kept = r.applicators === null ? null : keptApplicatorsSchema.safeParse(r.applicators);
+    if (kept?.success) out.set(r.visit_id, kept.data);
+    else notKept.push(r);
+  }
+  const live = await applicatorsFromAccounts(
+    db,
+    notKept.map((r) => ({ visit_id: r.visit_id, finished_by: r.finished_by === null ? null : Number(r.finished_by) })),
+  );
+  for (const [visitId, list] of live) out.set(visitId, list);
   return out;
 }
 

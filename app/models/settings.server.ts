@@ -2,6 +2,7 @@ import type { Knex } from "knex";
 import { boxRatesScaledFromDeep, businessSettingsFieldsSchema, businessSettingsSchema, defaultBusinessSettings, registrationNumberProblem, type BusinessSettings } from "~/domain/settings";
 import { fieldErrors, type FieldErrors } from "~/forms/field-errors";
 import { settingsInputFromForm } from "~/forms/settings-form";
+import { recordsKeptUntilFor } from "./account-data.server";
 
 const KEY = "business";
 
@@ -44,10 +45,15 @@ function pickValid(value: unknown): Partial<BusinessSettings> {
   ) as Partial<BusinessSettings>;
 }
 
-/** Saves validated settings and records who changed what, in one transaction. */
+/**
+ * Saves validated settings and records who changed what, in one transaction. A longer record
+ * retention also lengthens the record holds of deleted customers (extendRecordHolds).
+ */
 export async function saveBusinessSettings(db: Knex, settings: BusinessSettings, actorUserId: number | string) {
   await db.transaction(async (trx) => {
     const previous = await trx("settings").where({ key: KEY }).forUpdate().first("value");
+    // What the records were kept under until now (the defaults when nothing was saved yet).
+    const previousYears = (previous ? pickValid(previous.value).recordRetentionYears : undefined) ?? defaultBusinessSettings.recordRetentionYears;
     await trx("settings")
       .insert({ key: KEY, value: JSON.stringify(settings), updated_by: Number(actorUserId) })
       .onConflict("key")
@@ -60,7 +66,35 @@ export async function saveBusinessSettings(db: Knex, settings: BusinessSettings,
       before: previous ? JSON.stringify(previous.value) : null,
       after: JSON.stringify(settings),
     });
+    if (settings.recordRetentionYears > previousYears) await extendRecordHolds(trx, settings.recordRetentionYears, Number(actorUserId));
   });
+}
+
+/**
+ * The record retention was raised: every deleted customer whose application-record fields
+ * are still held (records_kept_until set, not anonymised yet) is held until the day the new
+ * retention gives (recordsKeptUntilFor), when that is later, with a "customer.records_hold_extended"
+ * audit row each. Holds are never shortened: records kept under a longer rule stay kept, so a
+ * lower retention applies only to accounts deleted after it. Under the customers' row locks,
+ * as the worker's sweep takes them, so a hold the sweep is ending is either extended first or
+ * found gone.
+ */
+async function extendRecordHolds(trx: Knex.Transaction, retentionYears: number, actorUserId: number): Promise<void> {
+  const held = await trx("customers").whereNotNull("records_kept_until").orderBy("id").forUpdate().select("id", "records_kept_until");
+  for (const customer of held) {
+    const keptUntil = customer.records_kept_until!;
+    const longer = await recordsKeptUntilFor(trx, Number(customer.id), retentionYears);
+    if (longer === null || longer <= keptUntil) continue;
+    await trx("customers").where({ id: customer.id }).update({ records_kept_until: longer, updated_at: trx.fn.now() as unknown as Date });
+    await trx("audit_log").insert({
+      actor_user_id: actorUserId,
+      action: "customer.records_hold_extended",
+      entity_type: "customer",
+      entity_id: String(customer.id),
+      before: JSON.stringify({ keptUntil }),
+      after: JSON.stringify({ keptUntil: longer, recordRetentionYears: retentionYears }),
+    });
+  }
 }
 
 /** Validates the posted settings form and saves it; on any invalid field nothing is saved

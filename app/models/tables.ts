@@ -150,6 +150,11 @@ export interface VisitRow extends Stamps {
   /** The product and its registration number as in settings when the visit was finished (null before that). */
   product_name: string | null;
   product_registration_number: string | null;
+  /** Who finished the visit and their licence number, as on their account then (null before that). */
+  applicator_name: string | null;
+  applicator_licence: string | null;
+  /** The application records' applicators as they were when the visit was finished: [{ name, licence }] (null before that). */
+  applicators: unknown;
   notes: string | null;
   defer_reason: string | null;
   /** Air temperature the crew read at the yard, °C. */

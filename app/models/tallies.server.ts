@@ -1,8 +1,8 @@
 import type { Knex } from "knex";
 import { formatClock } from "~/components/format";
 import { addCalendarDays } from "~/domain/courses";
-import { BOX_TYPE_LABELS, doseAssumption, doseGramsForColonyOfType, isBoxType, type BoxType } from "~/domain/box-types";
-import { gramsForColonies } from "~/domain/capacity";
+import { BOX_TYPE_LABELS, doseAssumption, doseGramsForColonyOfType, type BoxType } from "~/domain/box-types";
+import { gramsAtDosePerColony } from "~/domain/yard-colony-doses";
 import { doseGramsForSeason } from "~/domain/dose";
 import { assessMiteLoad, mitesPer100Bees, washSampleBees, type MiteLoadAssessment } from "~/domain/mites";
 import { doseRatesAboveLabel, registrationNumberShown, type BusinessSettings } from "~/domain/settings";
@@ -26,7 +26,8 @@ import {
 import { dateInZone } from "~/services/clock.server";
 import { serverEnv } from "~/services/env.server";
 import { requestEmailDelivery } from "~/services/jobs.server";
-import { lockDayForColonies } from "./capacity.server";
+import { applicatorsWhenFinished } from "./application-records.server";
+import { lockDayForColonies, yardDosesPerColony } from "./capacity.server";
 import { treatedBeforeVisits, treatedThisSeason } from "./season-applications.server";
 import { queueEmail } from "./emails.server";
 import { requestInvoiceEmail } from "./invoice-mail.server";
@@ -769,12 +770,18 @@ export async function applicationRecordForVisit(db: Knex, visitId: number, setti
       "yards.address as yard_address",
       "yards.lat",
       "yards.lng",
+      "visits.product_name",
+      "visits.product_registration_number",
+      "visits.applicator_name as kept_applicator_name",
+      "visits.applicator_licence as kept_applicator_licence",
       "users.name as applicator_name",
       "users.applicator_licence",
     );
   if (!row) return null;
   const treated = await db("tallies").where({ visit_id: visitId, outcome: "treated" }).select("dose_grams");
   const started = row.started_at ?? row.supers_confirmed_at;
+  // A finished visit keeps its applicator's name (never null on an account), so null means not kept.
+  const kept = row.kept_applicator_name !== null && row.kept_applicator_name !== undefined;
   return {
     visitId: Number(row.id),
     serviceDate: row.service_date,
@@ -791,12 +798,14 @@ export async function applicationRecordForVisit(db: Knex, visitId: number, setti
     lng: Number(row.lng),
     site: APPLICATION_SITE,
     coloniesTreated: treated.length,
-    productName: s.productName,
-    productRegistrationNumber: registrationNumberShown(s.productRegistrationNumber),
+    // As kept on the visit when it was finished; settings and the account as they are now
+    // only for a visit finished before those were kept.
+    productName: row.product_name ?? s.productName,
+    productRegistrationNumber: registrationNumberShown(row.product_registration_number ?? s.productRegistrationNumber),
     doseGramsPerBroodBox: s.doseGramsPerBroodBox,
     gramsApplied: doseGramsForSeason(treated.map((t) => Number(t.dose_grams))),
-    applicatorName: row.applicator_name ?? null,
-    applicatorLicence: row.applicator_licence ?? null,
+    applicatorName: kept ? row.kept_applicator_name : (row.applicator_name ?? null),
+    applicatorLicence: kept ? (row.kept_applicator_licence ?? null) : (row.applicator_licence ?? null),
     weatherNote: row.weather_note,
     airTempC: row.air_temp_c === null || row.air_temp_c === undefined ? null : Number(row.air_temp_c),
   };
@@ -845,6 +854,8 @@ async function loadVisitReport(db: Knex, visitId: number, settings: BusinessSett
       "visits.course_id",
       "visits.finished_at",
       "visits.weather_note",
+      "visits.product_name",
+      "visits.product_registration_number",
       "courses.rounds_planned",
       "courses.status as course_status",
       "yards.id as yard_id",
@@ -892,8 +903,9 @@ async function loadVisitReport(db: Knex, visitId: number, settings: BusinessSett
     treated: treated.length,
     skipped: colonies.length - treated.length,
     grams: doseGramsForSeason(treated.map((c) => c.doseGrams)),
-    productName: settings.productName,
-    productRegistrationNumber: registrationNumberShown(settings.productRegistrationNumber),
+    // The product kept on the visit when it was finished; settings only for visits not finished yet.
+    productName: visit.product_name ?? settings.productName,
+    productRegistrationNumber: registrationNumberShown(visit.product_registration_number ?? settings.productRegistrationNumber),
     colonies,
     nextRound: next ? { visitId: Number(next.id), date: next.service_date, status: next.status, deferred: next.status === "deferred" } : null,
     courseComplete: visit.course_status === "complete",
@@ -1062,11 +1074,13 @@ async function scheduleNextRound(
     return { nextVisitId: Number(existing.id), nextVisitDate: existing.service_date, nextVisitStatus: status, deferReason: existing.defer_reason, courseComplete: false };
   }
 
-  const yard = await trx("yards").where({ id: access.yardId }).first("colony_count", "box_type", "brood_boxes_per_colony");
+  const yard = await trx("yards").where({ id: access.yardId }).first("colony_count");
   const colonies = yard?.colony_count ?? 0;
   const interval = course.interval_days >= 1 ? course.interval_days : settings.roundIntervalDays;
   const date = addCalendarDays(access.serviceDate, interval);
-  const grams = yard ? gramsForColonies(colonies, { boxType: isBoxType(yard.box_type) ? yard.box_type : "deep", broodBoxesPerColony: Number(yard.brood_boxes_per_colony) }, settings) : 0;
+  // The next round is dosed as the crew found the colonies (their tallies corrected the rows).
+  const dosePerColony = yard ? ((await yardDosesPerColony(trx, settings, [access.yardId])).get(access.yardId) ?? 0) : 0;
+  const grams = gramsAtDosePerColony(colonies, dosePerColony);
   const room = await lockDayForColonies(trx, settings, date, colonies, grams);
   let deferReason: string | null = null;
   if (room.refusal === "closed") {
@@ -1142,6 +1156,10 @@ async function finishVisitTx(trx: Knex.Transaction, input: FinishInput, now: Dat
   if (treatedTallies.length > 0 && !access.supersConfirmedAt) throw new TallyRefused("supers_not_confirmed", MESSAGES.supers);
 
   const finishedAt = notLaterThanNow(input.finishedAt, now);
+  // Kept on the visit, like the product: the application records must read as they were when
+  // the visit was finished, whatever later happens to the crew members' accounts.
+  const finisher = await trx("users").where({ id: userId }).first("name", "applicator_licence");
+  const applicators = await applicatorsWhenFinished(trx, access.visitId, userId);
   await trx("visits")
     .where({ id: access.visitId })
     .update({
@@ -1153,6 +1171,9 @@ async function finishVisitTx(trx: Knex.Transaction, input: FinishInput, now: Dat
       notes: payload.data.notes,
       product_name: settings.productName,
       product_registration_number: settings.productRegistrationNumber,
+      applicator_name: finisher?.name ?? null,
+      applicator_licence: finisher?.applicator_licence ?? null,
+      applicators: JSON.stringify(applicators),
       started_at: trx.raw("coalesce(started_at, supers_confirmed_at, ?)", [finishedAt]) as unknown as Date,
       updated_at: trx.fn.now() as unknown as Date,
     });

@@ -478,6 +478,27 @@ describe("settings", () => {
     expect(second.after).toMatchObject({ pricePerColonyCents: 3125, tripFeeCents: 4000 });
   });
 
+  it("raising the record retention: customer.records_hold_extended by the owner for each hold still running", async () => {
+    const form = (years: string) => ({ ...settingsFormDefaults(defaultBusinessSettings), productRegistrationNumber: "TEST-REG-1", recordRetentionYears: years });
+    await updateBusinessSettingsFromForm(db, form("2"), owner);
+    // A customer treated on 2026-11-10 who deleted their account: held until 2028-11-10.
+    const crew = await aCrew(db, "Crew Holds");
+    const member = crew.members[0].id;
+    const stop = await aStop(db, crew, { date: "2026-11-10", colonies: 1, rounds: 1 });
+    await confirmRunSafetyCheck(db, { runId: stop.runId, crewId: crew.id, userId: member, items: ALL_SAFE });
+    await confirmSupersOff(db, { visitId: stop.visitId, crewId: crew.id, userId: member, idempotencyKey: aKey("supers") });
+    await recordTally(db, { visitId: stop.visitId, crewId: crew.id, userId: member, idempotencyKey: aKey("tally"), colonyLabel: stop.labels[0], outcome: "treated", recordedAt: new Date() });
+    await finishVisit(db, { visitId: stop.visitId, crewId: crew.id, userId: member, finishKey: aKey("finish") });
+    await db("customers").where({ id: stop.customerId }).update({ records_kept_until: "2028-11-10" });
+
+    const since = await mark();
+    await updateBusinessSettingsFromForm(db, form("5"), owner);
+    const extended = await entry(since, "customer.records_hold_extended");
+    expect(extended).toMatchObject({ entity_type: "customer", entity_id: String(stop.customerId), actor_user_id: owner });
+    expect(extended.before).toEqual({ keptUntil: "2028-11-10" });
+    expect(extended.after).toEqual({ keptUntil: "2031-11-10", recordRetentionYears: 5 });
+  });
+
   it("a refused save leaves no entry", async () => {
     const since = await mark();
     const result = await updateBusinessSettingsFromForm(db, { ...settingsFormDefaults(defaultBusinessSettings), productRegistrationNumber: "TEST-REG-1", roundIntervalDays: "30" }, owner);

@@ -2,7 +2,7 @@ import { afterAll, beforeEach, describe, expect, it } from "vitest";
 import { addCalendarDays } from "~/domain/courses";
 import { defaultBusinessSettings } from "~/domain/settings";
 import { createInvoiceForVisit } from "~/models/invoices-create.server";
-import { saveBusinessSettings } from "~/models/settings.server";
+import { loadBusinessSettings, saveBusinessSettings } from "~/models/settings.server";
 import { confirmRunSafetyCheck, confirmSupersOff, finishVisit, recordTally, TallyRefused, visitReportForCustomer } from "~/models/tallies.server";
 import { dateInZone } from "~/services/clock.server";
 import { db } from "~/services/db.server";
@@ -265,6 +265,14 @@ describe("finishing a visit", () => {
     expect(report).toMatchObject({ treated: 3, skipped: 1, grams: 3, roundNumber: 1, roundsPlanned: 3, nextRound: { date: "2026-11-17", deferred: false }, productName: "Test oxalic acid dihydrate" });
     expect(report?.colonies.find((c) => c.label === "H1")).toMatchObject({ mitesPer100: 3, threshold: 3, level: "at" });
     expect(await visitReportForCustomer(db, { visitId: stop.visitId, customerId: stranger.customerId })).toBeNull();
+
+    // The business changes product later: the report keeps the one the colonies were treated with.
+    const settings = await loadBusinessSettings(db);
+    await saveBusinessSettings(db, { ...settings, productName: "Another product", productRegistrationNumber: "OTHER-1" }, owner);
+    expect(await visitReportForCustomer(db, { visitId: stop.visitId, customerId: stop.customerId })).toMatchObject({
+      productName: "Test oxalic acid dihydrate",
+      productRegistrationNumber: "EPA Reg. No. 00000-0",
+    });
   });
 });
 
