@@ -136,6 +136,8 @@ test("a colony treated the season's most times cannot be tallied treated: the cr
 
     const row = page.getByRole("list", { name: "Colonies to tally" }).locator(`:scope > li[data-colony="${colony.label}"]`);
     await expect(row.getByText(`Applications this season before today: ${cap} of ${cap}`)).toBeVisible();
+    // The dose's working is shown with the colony: boxes × rate = dose, in so many loads.
+    await expect(row.getByText(/\d+ (deep|medium|nuc) brood box(es)? × [\d.]+ g = [\d.]+ g, in \d+ vaporizer loads? of at most [\d.]+ g/)).toBeVisible();
     await expect(row.getByText(/has had the most applications the business allows this season/)).toBeVisible();
     await expect(row.getByRole("button", { name: /^Treated/ })).toBeDisabled();
     await page.screenshot({ path: "test-results/screenshots/crew-season-cap-390.png", fullPage: true });
@@ -151,6 +153,7 @@ test("a colony treated the season's most times cannot be tallied treated: the cr
   } finally {
     // Leave the demo as it was for the journeys after this one.
     await queryTestDatabase("delete from tallies where visit_id = $1", [stop!.visit_id]);
+    await queryTestDatabase("update visits set status = 'scheduled', supers_confirmed_at = null, supers_confirmed_by = null, started_at = null where id = $1", [stop!.visit_id]);
     await queryTestDatabase("delete from tallies where visit_id in (select id from visits where course_id = $1)", [earlier.id]);
     await queryTestDatabase("delete from visits where course_id = $1", [earlier.id]);
     await queryTestDatabase("delete from courses where id = $1", [earlier.id]);
@@ -211,5 +214,6 @@ test("the crew counts a wash by the half-cup scoop: the bees are estimated from 
   } finally {
     // Leave the demo as it was for the journeys after this one.
     await queryTestDatabase("delete from tallies where visit_id = $1", [stop!.visit_id]);
+    await queryTestDatabase("update visits set status = 'scheduled', supers_confirmed_at = null, supers_confirmed_by = null, started_at = null where id = $1", [stop!.visit_id]);
   }
 });

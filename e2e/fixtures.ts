@@ -83,6 +83,8 @@ export async function signIn(page: Page, email: string, password = DEMO_PASSWORD
 }
 
 export async function signOut(page: Page) {
+  // Wait for the header first: either the wide screen's button or the phone's menu shows.
+  await expect(page.getByRole("button", { name: "Sign out" }).filter({ visible: true }).or(page.getByText("Menu").filter({ visible: true })).first()).toBeVisible();
   const wide = await page.getByRole("button", { name: "Sign out" }).first().isVisible();
   if (!wide) await page.getByText("Menu").click();
   await page.getByRole("button", { name: "Sign out" }).filter({ visible: true }).first().click();

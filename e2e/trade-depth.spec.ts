@@ -35,6 +35,29 @@ test("a customer puts a yard of medium boxes on the map (0 brood boxes refused) 
   await expect(page.getByText(new RegExp(`2 medium brood boxes × ${rate} g`))).toBeVisible();
   await expect(page.getByTestId("dose-per-colony")).toContainText(`${perColony} g`);
   await page.screenshot({ path: "test-results/screenshots/yard-medium-plan-1280.png", fullPage: true });
+
+  // Three deep boxes a colony: a dose above one vaporizer load takes several, and the time at
+  // the yard grows with them.
+  const [figures] = await queryTestDatabase<{ deep: string; load: string }>(
+    "select coalesce(value->>'doseGramsPerBroodBox', '1') as deep, coalesce(value->>'vaporizerLoadGrams', '2') as load from settings where key = 'business'",
+  );
+  const loads = Math.ceil((3 * Number(figures.deep)) / Number(figures.load));
+  expect(loads, "three deep boxes take more than one load at the demo's settings").toBeGreaterThan(1);
+  const minutes = async () => {
+    const text = (await page.getByTestId("service-time").textContent()) ?? "";
+    const match = /^(?:(\d+) h)?\s*(?:(\d+) min)?$/.exec(text.trim());
+    expect(match, `a duration, got ${text}`).toBeTruthy();
+    return Number(match![1] ?? 0) * 60 + Number(match![2] ?? 0);
+  };
+  const before = await minutes();
+  await page.goto(`/portal/yards/${yardId}/edit`);
+  await page.getByRole("radio", { name: /^Deep/ }).check();
+  await page.getByLabel("Brood boxes per colony").fill("3");
+  await page.getByRole("button", { name: "Save changes" }).click();
+  await expect(page).toHaveURL(new RegExp(`/portal/yards/${yardId}\\?saved=1$`));
+  // The rate is shown in grams, with ounces after it in US units.
+  await expect(page.getByTestId("dose-working")).toContainText(new RegExp(`3 deep brood boxes × ${Number(figures.deep)} g( \\([\\d.]+ oz\\))?, in ${loads} vaporizer loads`));
+  expect(await minutes()).toBeGreaterThan(before);
 });
 
 test("a customer with treated colonies deletes their account: the records keep their name until the retention date, the rest goes at once", async ({ page, browser }) => {
