@@ -17,13 +17,24 @@ export function TreatmentPlanCard({ plan, unitSystem, doseRate }: { plan: YardTr
     <Card title="Treatment plan">
       <dl className="grid grid-cols-1 gap-x-6 gap-y-3 sm:grid-cols-2">
         <div>
-          <dt className="text-sm font-semibold text-ink-soft">Dose per colony</dt>
+          <dt className="text-sm font-semibold text-ink-soft">{plan.crewFindings ? "Dose per colony, on average" : "Dose per colony"}</dt>
           <dd className="text-lg font-bold" data-testid="dose-per-colony">
             {formatDose(plan.dosePerColonyGrams, unitSystem)}
           </dd>
-          <dd className="text-sm text-ink-soft" data-testid="dose-working">
-            oxalic acid dihydrate: {doseWorking(plan, formatDose(doseRate, unitSystem))}
-          </dd>
+          {plan.crewFindings ? (
+            <>
+              <dd className="text-sm text-ink-soft" data-testid="dose-working">
+                oxalic acid dihydrate, by each colony&apos;s brood boxes at the box type&apos;s rate
+              </dd>
+              <dd className="mt-1 rounded-lg border-l-4 border-ochre-500 bg-ochre-100 px-3 py-2 text-sm" data-testid="crew-findings">
+                {plan.crewFindings}
+              </dd>
+            </>
+          ) : (
+            <dd className="text-sm text-ink-soft" data-testid="dose-working">
+              oxalic acid dihydrate: {doseWorking(plan, formatDose(doseRate, unitSystem))}
+            </dd>
+          )}
         </div>
         <div>
           <dt className="text-sm font-semibold text-ink-soft">Dose per round, whole yard</dt>

@@ -47,11 +47,14 @@ export function YardForm({
   errors,
   submitLabel,
   map,
+  crewFindings = null,
 }: {
   values: YardFormValues;
   errors: FieldErrors;
   submitLabel: string;
   map: { tileUrl: string | null; attribution: string | null };
+  /** What the crew found at the hives when it differs from the yard's figures (edit only). */
+  crewFindings?: string | null;
 }) {
   const busy = useNavigation().state === "submitting";
   const lat = Number(values.lat);
@@ -78,6 +81,14 @@ export function YardForm({
           <Field label="Colonies (hives) to treat" name="colonyCount" type="number" inputMode="numeric" min={0} max={200} step={1} defaultValue={values.colonyCount} error={errors.colonyCount} required />
           <Field label="Brood boxes per colony" name="broodBoxesPerColony" type="number" inputMode="numeric" min={MIN_BROOD_BOXES} max={MAX_BROOD_BOXES} step={1} defaultValue={values.broodBoxesPerColony ?? "1"} error={errors.broodBoxesPerColony} hint="Honey supers do not count: the dose goes by brood boxes." required />
         </div>
+        {crewFindings ? (
+          <div className="mt-4 rounded-lg border-l-4 border-ochre-500 bg-ochre-100 px-3 py-2" data-testid="crew-findings">
+            <p>{crewFindings}</p>
+            <p className="mt-1 text-sm">
+              Saving keeps each colony as the crew found it. Change the brood boxes or box type here only to set every colony to the new figures.
+            </p>
+          </div>
+        ) : null}
         <fieldset className="mt-4" aria-describedby={`boxType-hint${errors.boxType ? " boxType-error" : ""}`}>
           <legend className="font-semibold">Brood box type</legend>
           <p id="boxType-hint" className="text-sm text-ink-soft">

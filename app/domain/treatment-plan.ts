@@ -1,12 +1,14 @@
 /**
  * The treatment plan of one yard as customers and dispatchers see it: the dose per colony
  * and in all, the rounds and their dates, and the time a crew spends there. Pure: every
- * figure comes from the yard and the business's settings.
+ * figure comes from the yard (or its colonies as the crew found them) and the business's
+ * settings.
  */
 import { anhydrousEquivalentGrams, checkVaporizerBand, type VaporizerBandProblem } from "./chemistry";
 import { planCourse, type BroodStatus, type CourseRound } from "./courses";
 import { doseGramsForColonyOfType, doseRateForBoxType, vaporizerLoadsForDose, type BoxType } from "./box-types";
-import { doseGramsForYard } from "./dose";
+import { crewFindingsNote, type ColonyBoxes } from "./colony-findings";
+import { centigramsToGrams, doseGramsForYard, gramsToCentigrams } from "./dose";
 import { serviceMinutesForYard } from "./service-time";
 import type { BusinessSettings } from "./settings";
 
@@ -55,16 +57,48 @@ export interface YardTreatmentPlan extends ColonyDose {
   vaporizers: number;
   blockBand: { minC: number; maxC: number };
   blockBandProblems: VaporizerBandProblem[];
+  /**
+   * When the crew found the colonies otherwise than the yard's figures, what they found, in
+   * words; the doses and time are then planned from the colonies (dosePerColonyGrams is their
+   * average, rounded up to 0.01 g). Null when they match the yard.
+   */
+  crewFindings: string | null;
+}
+
+/**
+ * The doses of a yard planned from its colonies as the crew found them: grams per round are
+ * each colony's own dose added up, loads per colony the most any colony takes.
+ */
+function dosesFromColonies(colonies: readonly ColonyBoxes[], settings: DoseSettings) {
+  const doses = colonies.map((c) => colonyDose({ broodBoxesPerColony: c.broodBoxes, boxType: c.boxType }, settings));
+  const perRound = doses.reduce((sum, d) => sum + gramsToCentigrams(d.dosePerColonyGrams), 0);
+  return {
+    perRoundCentigrams: perRound,
+    averageGrams: centigramsToGrams(Math.ceil(perRound / colonies.length)),
+    loadsPerColony: Math.max(1, ...doses.map((d) => d.loadsPerColony)),
+  };
 }
 
 export function yardTreatmentPlan(
   yard: YardForPlan,
   settings: BusinessSettings,
-  options: { firstDate: string; bookedRounds?: CourseRound[]; vaporizers?: number },
+  options: {
+    firstDate: string;
+    bookedRounds?: CourseRound[];
+    vaporizers?: number;
+    /** The yard's active colonies as the crew last found them; the plan goes by them when they differ from the yard. */
+    colonies?: readonly ColonyBoxes[];
+  },
 ): YardTreatmentPlan {
-  const dose = colonyDose(yard, settings);
-  const rate = dose.doseRateGrams;
-  const dosePerRoundGrams = doseGramsForYard({ colonies: yard.colonies, broodBoxesPerColony: yard.broodBoxesPerColony }, rate);
+  const yardDose = colonyDose(yard, settings);
+  const rate = yardDose.doseRateGrams;
+  const found = options.colonies?.length ? options.colonies : null;
+  const crewFindings = found ? crewFindingsNote(found, { broodBoxesPerColony: yard.broodBoxesPerColony, boxType: yardDose.boxType }) : null;
+  const fromColonies = found && crewFindings ? dosesFromColonies(found, settings) : null;
+  const colonies = fromColonies ? found!.length : yard.colonies;
+  const dose: ColonyDose = fromColonies ? { ...yardDose, dosePerColonyGrams: fromColonies.averageGrams, loadsPerColony: fromColonies.loadsPerColony } : yardDose;
+  const perRoundCentigrams = fromColonies ? fromColonies.perRoundCentigrams : gramsToCentigrams(doseGramsForYard({ colonies, broodBoxesPerColony: yard.broodBoxesPerColony }, rate));
+  const dosePerRoundGrams = centigramsToGrams(perRoundCentigrams);
   const roundsBooked = Boolean(options.bookedRounds?.length);
   const rounds = roundsBooked
     ? options.bookedRounds!
@@ -81,11 +115,11 @@ export function yardTreatmentPlan(
     ...dose,
     dosePerRoundGrams,
     anhydrousPerRoundGrams: anhydrousEquivalentGrams(dosePerRoundGrams),
-    doseForCourseGrams: doseGramsForYard({ colonies: yard.colonies * roundsToTreat, broodBoxesPerColony: yard.broodBoxesPerColony }, rate),
+    doseForCourseGrams: centigramsToGrams(perRoundCentigrams * roundsToTreat),
     rounds,
     roundsBooked,
     serviceMinutesPerRound: serviceMinutesForYard({
-      colonies: yard.colonies,
+      colonies,
       vaporizers,
       loadsPerColony: dose.loadsPerColony,
       setupMinutes: settings.setupMinutes,
@@ -97,5 +131,6 @@ export function yardTreatmentPlan(
     vaporizers,
     blockBand,
     blockBandProblems: checkVaporizerBand(blockBand),
+    crewFindings,
   };
 }

@@ -1,5 +1,8 @@
 import type { Knex } from "knex";
 import { yardDoseGramsPerColony, type YardDoseShape } from "~/domain/capacity";
+import { isBoxType, type BoxType } from "~/domain/box-types";
+import { coloniesAfterYardEdit, colonyShapes, editResetsColonyBoxes, type StoredColony } from "~/domain/colony-findings";
+import { plannedDoseGramsPerColony } from "~/domain/yard-colony-doses";
 import { centigramsToGrams, gramsToCentigrams } from "~/domain/dose";
 import type { BusinessSettings } from "~/domain/settings";
 import type { YardInput } from "~/forms/yard";
@@ -82,22 +85,42 @@ export class YardEditRefused extends Error {
 
 type BookedVisit = { id: number; service_date: string; colonies_expected: number };
 
+/** The column is checked to one of the types; deep (the label's own rate) if ever not. */
+function boxTypeOf(value: unknown): BoxType {
+  return isBoxType(value) ? value : "deep";
+}
+
+/** Which of the yard's box figures an edit changes: the field a refusal for grams is shown at. */
+type YardBoxesChange = "none" | "type" | "boxes";
+
+function boxesChange(before: YardDoseShape, after: YardDoseShape): YardBoxesChange {
+  if (before.boxType !== after.boxType) return "type";
+  return before.broodBoxesPerColony !== after.broodBoxesPerColony ? "boxes" : "none";
+}
+
+/** Grams per colony a yard is planned with now, from its active colonies (capacity.server.ts). */
+async function plannedDoseNow(trx: Knex.Transaction, settings: BusinessSettings, yardId: number, yard: YardDoseShape): Promise<number> {
+  return (await yardDosesPerColony(trx, settings, [yardId])).get(yardId) ?? yardDoseGramsPerColony(yard, settings);
+}
+
 /**
- * Locks the days where the new count or boxes make a booked visit bigger (in colonies, or in
- * grams: colonies × the yard's dose per colony), in date order, and throws YardEditRefused
- * when one of them has no room for it (the same lock and rule as a booking, so a concurrent
- * booking and this edit cannot both take a day's last room). Visits that keep or lose
- * colonies and grams need no room and no lock.
+ * Locks the days where the edit makes a booked visit bigger (in colonies, or in grams:
+ * colonies × the yard's planned dose per colony, before and after the edit), in date order,
+ * and throws YardEditRefused when one of them has no room for it (the same lock and rule as a
+ * booking, so a concurrent booking and this edit cannot both take a day's last room). Visits
+ * that keep or lose colonies and grams need no room and no lock.
  */
-async function holdRoomForBiggerVisits(trx: Knex.Transaction, yardId: number, visits: readonly BookedVisit[], before: YardDoseShape, input: YardInput) {
+async function holdRoomForBiggerVisits(
+  trx: Knex.Transaction,
+  settings: BusinessSettings,
+  visits: readonly BookedVisit[],
+  doses: { beforeGrams: number; afterGrams: number; boxesChanged: YardBoxesChange },
+  input: YardInput,
+) {
   const colonyCount = input.colonyCount;
-  const settings: BusinessSettings = await loadBusinessSettings(trx);
-  // What the day's booked grams count for this yard now: its colonies as the crew last found
-  // them (capacity.server.ts); the edit then sets every colony to the form's boxes.
-  const planned = (await yardDosesPerColony(trx, settings, [yardId])).get(yardId);
-  const oldDose = gramsToCentigrams(planned ?? yardDoseGramsPerColony(before, settings));
-  const newDose = gramsToCentigrams(yardDoseGramsPerColony({ boxType: input.boxType, broodBoxesPerColony: input.broodBoxesPerColony }, settings));
-  // Centigrams each visit adds: the day's booked grams read under the lock still count the old boxes.
+  const oldDose = gramsToCentigrams(doses.beforeGrams);
+  const newDose = gramsToCentigrams(doses.afterGrams);
+  // Centigrams each visit adds: the day's booked grams read under the lock still count the old colonies.
   const gramsAdded = (v: BookedVisit) => colonyCount * newDose - v.colonies_expected * oldDose;
   const growing = visits.filter((v) => colonyCount > v.colonies_expected || gramsAdded(v) > 0);
   if (growing.length === 0) return;
@@ -131,9 +154,9 @@ async function holdRoomForBiggerVisits(trx: Knex.Transaction, yardId: number, vi
     });
   if (crowded.length === 0) return;
   const field: RoomField =
-    growing.some((v) => colonyCount > v.colonies_expected) || (before.boxType === input.boxType && before.broodBoxesPerColony === input.broodBoxesPerColony)
+    growing.some((v) => colonyCount > v.colonies_expected) || doses.boxesChanged === "none"
       ? "colonyCount"
-      : before.boxType !== input.boxType
+      : doses.boxesChanged === "type"
         ? "boxType"
         : "broodBoxesPerColony";
   throw new YardEditRefused(crowded, colonyCount, field, centigramsToGrams(newDose));
@@ -154,26 +177,41 @@ function yardColumns(input: YardInput) {
   };
 }
 
+/** What a yard edit does to the colonies it keeps: set their boxes, their brood status, both or neither. */
+type ColonyReset = { boxes: boolean; broodStatus: boolean };
+
 /**
  * Keeps one active colony row per colony (H1…Hn): adds rows, or retires the highest-numbered.
- * Active colonies take the yard's brood boxes and box type, which the crew's dose goes by.
+ * A new or returning colony takes the yard's figures. A colony that stays keeps what the crew
+ * found at the hive (brood boxes, box type, brood seen) unless the edit changed that figure of
+ * the yard (app/domain/colony-findings.ts).
  */
-async function matchColonies(trx: Knex.Transaction, yardId: number, input: YardInput) {
+async function matchColonies(trx: Knex.Transaction, yardId: number, input: YardInput, reset: ColonyReset) {
   const existing = await trx("colonies").where({ yard_id: yardId }).select("id", "label", "active");
-  const byNumber = new Map(existing.map((c) => [Number(c.label.replace(/^H/, "")), c]));
+  const byLabel = new Map(existing.map((c) => [c.label as string, c]));
+  const yardFigures = { brood_boxes: input.broodBoxesPerColony, box_type: input.boxType, brood_status: input.broodStatus };
   for (let n = 1; n <= input.colonyCount; n++) {
-    const row = byNumber.get(n);
-    if (!row) await trx("colonies").insert({ yard_id: yardId, label: `H${n}`, brood_boxes: input.broodBoxesPerColony, box_type: input.boxType, brood_status: input.broodStatus });
-    else await trx("colonies").where({ id: row.id }).update({ active: true, brood_boxes: input.broodBoxesPerColony, box_type: input.boxType, brood_status: input.broodStatus, updated_at: trx.fn.now() });
+    const row = byLabel.get(`H${n}`);
+    if (!row) await trx("colonies").insert({ yard_id: yardId, label: `H${n}`, ...yardFigures });
+    else if (!row.active) await trx("colonies").where({ id: row.id }).update({ active: true, ...yardFigures, updated_at: trx.fn.now() });
+    else if (reset.boxes || reset.broodStatus) {
+      await trx("colonies")
+        .where({ id: row.id })
+        .update({
+          ...(reset.boxes ? { brood_boxes: input.broodBoxesPerColony, box_type: input.boxType } : {}),
+          ...(reset.broodStatus ? { brood_status: input.broodStatus } : {}),
+          updated_at: trx.fn.now(),
+        });
+    }
   }
-  const retire = existing.filter((c) => !/^H\d+$/.test(c.label) || Number(c.label.slice(1)) > input.colonyCount).map((c) => c.id);
+  const retire = existing.filter((c) => c.active && (!/^H\d+$/.test(c.label) || Number(c.label.slice(1)) > input.colonyCount)).map((c) => c.id);
   if (retire.length) await trx("colonies").whereIn("id", retire).update({ active: false, updated_at: trx.fn.now() });
 }
 
 export async function createYard(db: Knex, customerId: number | string, input: YardInput, actorUserId: number | string): Promise<number> {
   return db.transaction(async (trx) => {
     const [yard] = await trx("yards").insert({ customer_id: Number(customerId), ...yardColumns(input) }).returning("id");
-    await matchColonies(trx, yard.id, input);
+    await matchColonies(trx, yard.id, input, { boxes: true, broodStatus: true });
     await trx("audit_log").insert({ actor_user_id: Number(actorUserId), action: "yard.create", entity_type: "yard", entity_id: String(yard.id), after: JSON.stringify(input) });
     return yard.id as number;
   });
@@ -183,7 +221,9 @@ export async function createYard(db: Knex, customerId: number | string, input: Y
  * Updates a yard of this customer; false when the yard is not theirs. Booked visits take the
  * new colony count, so the day's room and the crew's dose follow the change. A bigger count,
  * or boxes that take more acid, must fit on each of those days, in colonies and in the crews'
- * grams (YardEditRefused otherwise, and nothing is written).
+ * grams (YardEditRefused otherwise, and nothing is written). The colonies keep what the crew
+ * found at the hive unless the edit changes the yard's boxes (or brood status), which then
+ * every colony takes.
  * Locks: the yard, its booked visits (by id), then their days in date order — a booking
  * takes its yards before its day and a reschedule its visit before its day, the same order.
  */
@@ -196,9 +236,19 @@ export async function updateYard(db: Knex, customerId: number | string, yardId: 
       .orderBy("id")
       .forUpdate()
       .select("id", "service_date", "colonies_expected");
-    await holdRoomForBiggerVisits(trx, yardId, booked, { boxType: before.box_type, broodBoxesPerColony: before.brood_boxes_per_colony }, input);
+    const settings = await loadBusinessSettings(trx);
+    const beforeBoxes = { boxType: boxTypeOf(before.box_type), broodBoxesPerColony: Number(before.brood_boxes_per_colony) };
+    const resetBoxes = editResetsColonyBoxes(beforeBoxes, input);
+    // The grams per colony before the edit (as the day's booked grams count them) and after it,
+    // from the colonies as they will stand: kept as the crew found them, or set to new boxes.
+    const beforeGrams = await plannedDoseNow(trx, settings, yardId, beforeBoxes);
+    const stored: StoredColony[] = (
+      await trx("colonies").where({ yard_id: yardId }).select("label", "active", "brood_boxes", "box_type")
+    ).map((c) => ({ label: c.label, active: Boolean(c.active), broodBoxes: Number(c.brood_boxes), boxType: boxTypeOf(c.box_type) }));
+    const afterGrams = plannedDoseGramsPerColony(colonyShapes(coloniesAfterYardEdit(stored, input, resetBoxes)), input, settings);
+    await holdRoomForBiggerVisits(trx, settings, booked, { beforeGrams, afterGrams, boxesChanged: boxesChange(beforeBoxes, input) }, input);
     await trx("yards").where({ id: yardId }).update({ ...yardColumns(input), updated_at: trx.fn.now() });
-    await matchColonies(trx, yardId, input);
+    await matchColonies(trx, yardId, input, { boxes: resetBoxes, broodStatus: before.brood_status !== input.broodStatus });
     // Only the visits whose days were checked above; one added meanwhile (a next round) took
     // its day's room with the count it was created with.
     if (booked.length) {

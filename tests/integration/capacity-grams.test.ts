@@ -178,14 +178,41 @@ describe("a crew's daily gram limit in the booking capacity", () => {
     await book(ours);
     await aBookedYard({ colonies: 14, boxType: "deep", boxes: 1 }); // 14 g: 18 g booked, 2 g left
     expect((await roomBetween(db, settings, day, day))[0]).toMatchObject({ gramsBooked: 18, gramsRemaining: 2 });
-    // Saving the yard as 4 colonies of 2 boxes sets every colony to 2 boxes: 8 g, 4 g more
+    // Saving the yard as 4 colonies of 3 boxes sets every colony to 3 boxes: 12 g, 8 g more
     // than the day counts now, and only 2 g are left.
-    await expect(updateYard(db, ours.customerId, ours.yardId, yardInput({ colonies: 4, boxType: "deep", boxes: 2 }), ours.userId)).rejects.toMatchObject({
+    await expect(updateYard(db, ours.customerId, ours.yardId, yardInput({ colonies: 4, boxType: "deep", boxes: 3 }), ours.userId)).rejects.toMatchObject({
+      constructor: YardEditRefused,
+      field: "broodBoxesPerColony",
+    });
+    expect((await roomBetween(db, settings, day, day))[0]).toMatchObject({ gramsBooked: 18, gramsRemaining: 2 });
+    expect(await db("colonies").where({ yard_id: ours.yardId }).orderBy("label").pluck("brood_boxes")).toEqual([1, 1, 1, 1]);
+    expect(await db("yards").where({ id: ours.yardId }).first("brood_boxes_per_colony")).toEqual({ brood_boxes_per_colony: 2 });
+  });
+
+  it("keeps what the crew found when an edit leaves the yard's boxes as they were, and gives an added colony the yard's figures", async () => {
+    await aCrew(20);
+    // On record 2 deep boxes a colony; the crew found 1 in each of the 4 colonies (4 g counted).
+    const ours = await aCustomerWithYard({ colonies: 4, boxType: "deep", boxes: 2 });
+    await db("colonies").insert(["H1", "H2", "H3", "H4"].map((label) => ({ yard_id: ours.yardId, label, brood_boxes: 1, box_type: "deep", brood_status: "broodless", active: true })));
+    await book(ours);
+    await aBookedYard({ colonies: 14, boxType: "deep", boxes: 1 }); // 18 g booked, 2 g left
+    // A fifth colony at the yard's 2 boxes: 4 × 1 g + 2 g = 6 g, 2 g more: it just fits.
+    expect(await updateYard(db, ours.customerId, ours.yardId, yardInput({ colonies: 5, boxType: "deep", boxes: 2 }), ours.userId)).toBe(true);
+    expect(await db("colonies").where({ yard_id: ours.yardId, active: true }).orderBy("label").select("label", "brood_boxes")).toEqual([
+      { label: "H1", brood_boxes: 1 },
+      { label: "H2", brood_boxes: 1 },
+      { label: "H3", brood_boxes: 1 },
+      { label: "H4", brood_boxes: 1 },
+      { label: "H5", brood_boxes: 2 },
+    ]);
+    // (4 × 1 g + 2 g) ÷ 5 = 1.2 g a colony, × 5 = 6 g: 20 g booked, none left.
+    expect((await roomBetween(db, settings, day, day))[0]).toMatchObject({ gramsBooked: 20, gramsRemaining: 0 });
+    // A sixth at 2 boxes is about 2 g more and no gram is left: refused at the colony count, nothing written.
+    await expect(updateYard(db, ours.customerId, ours.yardId, yardInput({ colonies: 6, boxType: "deep", boxes: 2 }), ours.userId)).rejects.toMatchObject({
       constructor: YardEditRefused,
       field: "colonyCount",
     });
-    expect((await roomBetween(db, settings, day, day))[0]).toMatchObject({ gramsBooked: 18, gramsRemaining: 2 });
-    expect(await db("colonies").where({ yard_id: ours.yardId }).pluck("brood_boxes")).toEqual([1, 1, 1, 1]);
+    expect(await db("colonies").where({ yard_id: ours.yardId, active: true }).count({ n: "*" }).first()).toEqual({ n: 5 });
   });
 
   it("refuses moving a visit to a day whose crews' grams it does not fit", async () => {

@@ -100,4 +100,27 @@ describe("yardTreatmentPlan", () => {
     // 4 colonies × 1 load on the default 2 vaporizers = 2 cycles → 15 + 2 × 35/60 + 1 × 2 + 10 = 28.1666… min
     expect(plan.serviceMinutesPerRound).toBeCloseTo(169 / 6, 12);
   });
+
+  it("plans from the colonies as the crew found them when they differ from the yard, and says so", () => {
+    const yard = { colonies: 4, broodBoxesPerColony: 2, boxType: "deep" as const, broodStatus: "broodless" as const };
+    const asBooked = yardTreatmentPlan(yard, settings, { firstDate: "2026-12-01", colonies: [2, 2, 2, 2].map((b) => ({ broodBoxes: b, boxType: "deep" as const })) });
+    expect(asBooked.crewFindings).toBeNull();
+    expect(asBooked).toMatchObject({ dosePerColonyGrams: 2, dosePerRoundGrams: 8, loadsPerColony: 1 });
+
+    // The crew found 3, 1, 1 and 2 deep boxes: 1 g a box → 3 + 1 + 1 + 2 = 7 g a round, 1.75 g a
+    // colony on average, and the 3-box colony's 3 g needs two 2 g vaporizer loads.
+    const found = [3, 1, 1, 2].map((b) => ({ broodBoxes: b, boxType: "deep" as const }));
+    const plan = yardTreatmentPlan(yard, { ...settings, vaporizerLoadGrams: 2 }, { firstDate: "2026-12-01", vaporizers: 2, colonies: found });
+    expect(plan).toMatchObject({ dosePerRoundGrams: 7, dosePerColonyGrams: 1.75, loadsPerColony: 2, doseForCourseGrams: 7 });
+    expect(plan.crewFindings).toContain("The crew found 2 colonies of 1 deep brood box");
+    // 4 colonies × 2 loads on 2 vaporizers = 4 cycles → 15 + 4 × 35/60 + 3 × 2 + 10 = 33.333… min
+    expect(plan.serviceMinutesPerRound).toBeCloseTo(100 / 3, 12);
+    // Three colonies of 1 deep box (1 g) and one of 1 medium at 0.7 g: 3.7 g ÷ 4 = 0.925 g,
+    // rounded up to 0.93 g, so a day is never planned short.
+    const mixed = yardTreatmentPlan({ ...yard, broodBoxesPerColony: 1 }, { ...settings, doseGramsPerMediumBox: 0.7 }, {
+      firstDate: "2026-12-01",
+      colonies: [{ broodBoxes: 1, boxType: "medium" }, ...[1, 1, 1].map((b) => ({ broodBoxes: b, boxType: "deep" as const }))],
+    });
+    expect(mixed).toMatchObject({ dosePerRoundGrams: 3.7, dosePerColonyGrams: 0.93 });
+  });
 });

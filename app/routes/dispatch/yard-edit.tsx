@@ -5,6 +5,7 @@ import { YardForm, yardFormValues, type YardFormValues } from "~/components/yard
 import { fieldErrors, formValues, type FieldErrors } from "~/forms/field-errors";
 import { yardSchema } from "~/forms/yard";
 import { updateYard, YardEditRefused } from "~/models/yard-edit.server";
+import { yardCrewFindings } from "~/models/yard-plan.server";
 import { getYard } from "~/models/yards.server";
 import { businessToday } from "~/services/clock.server";
 import { db } from "~/services/db.server";
@@ -22,7 +23,7 @@ export const meta: Route.MetaFunction = ({ data }) => [{ title: `Edit ${data?.ya
 export async function loader({ request, params }: Route.LoaderArgs) {
   await requireRole(request, AREA_ROLES.dispatch);
   const yard = await getYard(db, String(idParam(params.yardId, "yard")), await businessToday(db));
-  return { yard, map: mapConfig() };
+  return { yard, map: mapConfig(), crewFindings: await yardCrewFindings(db, yard) };
 }
 
 /** A booked visit on a day without room for the new count: the dispatcher may move it. */
@@ -73,7 +74,7 @@ export default function DispatchYardEdit({ loaderData, actionData }: Route.Compo
               </ul>
             </nav>
           ) : null}
-          <YardForm values={values} errors={actionData?.errors ?? {}} submitLabel="Save changes" map={loaderData.map} />
+          <YardForm values={values} errors={actionData?.errors ?? {}} submitLabel="Save changes" map={loaderData.map} crewFindings={loaderData.crewFindings} />
         </div>
         <SafetyCautions audience="staff" />
       </div>

@@ -9,6 +9,7 @@ import { fieldErrors, formValues } from "~/forms/field-errors";
 import { PHOTO_MAX_BYTES, yardSchema } from "~/forms/yard";
 import { deleteYardPhoto, listYardPhotos, PHOTO_TOO_LARGE, PhotoRefused, storeYardPhoto } from "~/models/attachments.server";
 import { updateYard, YardEditRefused } from "~/models/yard-edit.server";
+import { yardCrewFindings } from "~/models/yard-plan.server";
 import { getYardForCustomer } from "~/models/yards.server";
 import { businessToday } from "~/services/clock.server";
 import { db } from "~/services/db.server";
@@ -22,9 +23,9 @@ export const meta: Route.MetaFunction = ({ data }) => [{ title: `Edit ${data?.ya
 export async function loader({ request, params }: Route.LoaderArgs) {
   const user = await requireCustomer(request);
   const yard = await getYardForCustomer(db, user.customerId, String(idParam(params.yardId, "yard")), await businessToday(db));
-  const photos = await listYardPhotos(db, yard.id);
+  const [photos, crewFindings] = await Promise.all([listYardPhotos(db, yard.id), yardCrewFindings(db, yard)]);
   const url = new URL(request.url);
-  return { yard, photos, map: mapConfig(), created: url.searchParams.has("created"), saved: url.searchParams.has("saved") };
+  return { yard, photos, crewFindings, map: mapConfig(), created: url.searchParams.has("created"), saved: url.searchParams.has("saved") };
 }
 
 type ActionResult =
@@ -109,7 +110,7 @@ export default function YardEdit({ loaderData, actionData }: Route.ComponentProp
       ) : null}
       <div className="grid gap-6 lg:grid-cols-3">
         <div className="min-w-0 lg:col-span-2">
-          <YardForm values={values} errors={result?.intent === "save" ? result.errors : {}} submitLabel="Save changes" map={loaderData.map} />
+          <YardForm values={values} errors={result?.intent === "save" ? result.errors : {}} submitLabel="Save changes" map={loaderData.map} crewFindings={loaderData.crewFindings} />
         </div>
         <Card title="Photos" className="h-fit">
           <p className="text-sm text-ink-soft">Photos of the hives, the gate or the parking help the crew find their way. JPEG, PNG, WebP or GIF, up to 10 MB each.</p>
