@@ -41,6 +41,11 @@ export function isBoxType(value: unknown): value is BoxType {
   return typeof value === "string" && (BOX_TYPES as readonly string[]).includes(value);
 }
 
+/** A stored box type (the columns are checked to one of the types); deep, the label's own box, if ever not. */
+export function boxTypeOrDeep(value: unknown): BoxType {
+  return isBoxType(value) ? value : "deep";
+}
+
 /** Grams per brood box of a type, from the business's rates. */
 export function doseRateForBoxType(rates: BoxDoseRates, boxType: BoxType): number {
   return rates[DOSE_RATE_FIELD[boxType]];

@@ -1,14 +1,9 @@
 import type { Knex } from "knex";
-import { isBoxType, type BoxType } from "~/domain/box-types";
+import { boxTypeOrDeep, type BoxType } from "~/domain/box-types";
 import { plannedColonyDose, type ColoniesOfShape, type PlannedColonyDose, type PlannedDoseSettings } from "~/domain/yard-colony-doses";
 
 // The dose each yard is planned with, from its active colonies as the crew last corrected
 // them (app/domain/yard-colony-doses.ts); the yard's own figures when it has none.
-
-/** The column is checked to one of the types; deep (the label's own rate) if ever not. */
-function boxTypeOf(value: unknown): BoxType {
-  return isBoxType(value) ? value : "deep";
-}
 
 type ShapeRow = {
   yard_id: number;
@@ -42,10 +37,10 @@ export async function plannedYardDoses(db: Knex, settings: PlannedDoseSettings, 
   const byYard = new Map<number, { yard: { boxType: BoxType; broodBoxesPerColony: number }; colonies: ColoniesOfShape[] }>();
   for (const row of rows) {
     const id = Number(row.yard_id);
-    const entry = byYard.get(id) ?? { yard: { boxType: boxTypeOf(row.yard_box_type), broodBoxesPerColony: Number(row.brood_boxes_per_colony) }, colonies: [] };
+    const entry = byYard.get(id) ?? { yard: { boxType: boxTypeOrDeep(row.yard_box_type), broodBoxesPerColony: Number(row.brood_boxes_per_colony) }, colonies: [] };
     // A yard without an active colony comes back as one row of nulls, counted 0.
     if (row.colony_brood_boxes != null && Number(row.colonies) > 0) {
-      entry.colonies.push({ broodBoxes: Number(row.colony_brood_boxes), boxType: boxTypeOf(row.colony_box_type), count: Number(row.colonies) });
+      entry.colonies.push({ broodBoxes: Number(row.colony_brood_boxes), boxType: boxTypeOrDeep(row.colony_box_type), count: Number(row.colonies) });
     }
     byYard.set(id, entry);
   }

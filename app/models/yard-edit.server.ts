@@ -1,6 +1,6 @@
 import type { Knex } from "knex";
 import { yardDoseGramsPerColony, type YardDoseShape } from "~/domain/capacity";
-import { isBoxType, type BoxType } from "~/domain/box-types";
+import { boxTypeOrDeep } from "~/domain/box-types";
 import { coloniesAfterYardEdit, colonyShapes, editResetsColonyBoxes, type StoredColony } from "~/domain/colony-findings";
 import { plannedDoseGramsPerColony } from "~/domain/yard-colony-doses";
 import { centigramsToGrams, gramsToCentigrams } from "~/domain/dose";
@@ -84,11 +84,6 @@ export class YardEditRefused extends Error {
 }
 
 type BookedVisit = { id: number; service_date: string; colonies_expected: number };
-
-/** The column is checked to one of the types; deep (the label's own rate) if ever not. */
-function boxTypeOf(value: unknown): BoxType {
-  return isBoxType(value) ? value : "deep";
-}
 
 /** Which of the yard's box figures an edit changes: the field a refusal for grams is shown at. */
 type YardBoxesChange = "none" | "type" | "boxes";
@@ -237,14 +232,14 @@ export async function updateYard(db: Knex, customerId: number | string, yardId: 
       .forUpdate()
       .select("id", "service_date", "colonies_expected");
     const settings = await loadBusinessSettings(trx);
-    const beforeBoxes = { boxType: boxTypeOf(before.box_type), broodBoxesPerColony: Number(before.brood_boxes_per_colony) };
+    const beforeBoxes = { boxType: boxTypeOrDeep(before.box_type), broodBoxesPerColony: Number(before.brood_boxes_per_colony) };
     const resetBoxes = editResetsColonyBoxes(beforeBoxes, input);
     // The grams per colony before the edit (as the day's booked grams count them) and after it,
     // from the colonies as they will stand: kept as the crew found them, or set to new boxes.
     const beforeGrams = await plannedDoseNow(trx, settings, yardId, beforeBoxes);
     const stored: StoredColony[] = (
       await trx("colonies").where({ yard_id: yardId }).select("label", "active", "brood_boxes", "box_type")
-    ).map((c) => ({ label: c.label, active: Boolean(c.active), broodBoxes: Number(c.brood_boxes), boxType: boxTypeOf(c.box_type) }));
+    ).map((c) => ({ label: c.label, active: Boolean(c.active), broodBoxes: Number(c.brood_boxes), boxType: boxTypeOrDeep(c.box_type) }));
     const afterGrams = plannedDoseGramsPerColony(colonyShapes(coloniesAfterYardEdit(stored, input, resetBoxes)), input, settings);
     await holdRoomForBiggerVisits(trx, settings, booked, { beforeGrams, afterGrams, boxesChanged: boxesChange(beforeBoxes, input) }, input);
     await trx("yards").where({ id: yardId }).update({ ...yardColumns(input), updated_at: trx.fn.now() });

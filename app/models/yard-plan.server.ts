@@ -1,11 +1,15 @@
 import type { Knex } from "knex";
-import { isBoxType } from "~/domain/box-types";
-import { crewFindingsNote } from "~/domain/colony-findings";
+import { crewFindingsNote, type ColonyBoxes } from "~/domain/colony-findings";
 import { yardTreatmentPlan } from "~/domain/treatment-plan";
 import { dateInZone } from "~/services/clock.server";
 import { loadBusinessSettings } from "./settings.server";
 import { listYardPhotos } from "./attachments.server";
-import { currentCourseRounds, listColonies, listYardVisits, type YardSummary } from "./yards.server";
+import { currentCourseRounds, listColonies, listYardVisits, type ColonySummary, type YardSummary } from "./yards.server";
+
+/** The boxes of a yard's active colonies, as the crew last found them. */
+function activeColonyBoxes(colonies: readonly ColonySummary[]): ColonyBoxes[] {
+  return colonies.filter((c) => c.active).map((c) => ({ broodBoxes: c.broodBoxes, boxType: c.boxType }));
+}
 
 /** Everything a yard page shows: colonies, visits, and the treatment plan in the business's units. */
 export async function yardPageData(db: Knex, yard: YardSummary) {
@@ -24,7 +28,7 @@ export async function yardPageData(db: Knex, yard: YardSummary) {
       firstDate: yard.nextVisitDate ?? today,
       bookedRounds,
       // As the crew last found them: the plan goes by these when they differ from the yard.
-      colonies: colonies.filter((c) => c.active).map((c) => ({ broodBoxes: Number(c.broodBoxes), boxType: isBoxType(c.boxType) ? c.boxType : "deep" })),
+      colonies: activeColonyBoxes(colonies),
     },
   );
   return { yard, colonies, visits, plan, photos, unitSystem: settings.unitSystem, doseRate: plan.doseRateGrams };
@@ -32,9 +36,5 @@ export async function yardPageData(db: Knex, yard: YardSummary) {
 
 /** The note shown on a yard's edit form when the crew found its colonies otherwise than its figures; null when they match. */
 export async function yardCrewFindings(db: Knex, yard: Pick<YardSummary, "id" | "broodBoxesPerColony" | "boxType">): Promise<string | null> {
-  const colonies = (await listColonies(db, yard.id)).filter((c) => c.active);
-  return crewFindingsNote(
-    colonies.map((c) => ({ broodBoxes: Number(c.broodBoxes), boxType: isBoxType(c.boxType) ? c.boxType : "deep" })),
-    { broodBoxesPerColony: yard.broodBoxesPerColony, boxType: isBoxType(yard.boxType) ? yard.boxType : "deep" },
-  );
+  return crewFindingsNote(activeColonyBoxes(await listColonies(db, yard.id)), { broodBoxesPerColony: yard.broodBoxesPerColony, boxType: yard.boxType });
 }
