@@ -7,13 +7,14 @@
  * commonly give it less. Pure: the rates come from the settings.
  */
 
-import { doseGramsForColony, gramsToCentigrams } from "./dose";
+import { doseGramsForColony, gramsToCentigrams, MIN_BROOD_BOXES } from "./dose";
+
+export { MIN_BROOD_BOXES };
 
 export const BOX_TYPES = ["deep", "medium", "nuc"] as const;
 export type BoxType = (typeof BOX_TYPES)[number];
 
-/** Brood boxes a crew may record for one colony at the hive. */
-export const MIN_BROOD_BOXES = 1;
+/** Brood boxes a crew may record for one colony at the hive: MIN_BROOD_BOXES (dose.ts) up to this. */
 export const MAX_BROOD_BOXES = 6;
 
 /** Names as the crew and customers read them. */

@@ -40,14 +40,29 @@ function assertRate(value: number, what: string): void {
   }
 }
 
-/** Grams of oxalic acid dihydrate for one colony: brood boxes × dose rate per brood box. No brood boxes → 0. */
+/**
+ * Brood boxes a living colony has at the least: the queen lays in a brood box, so a colony
+ * with none is a dead-out or not a colony, and is never dosed.
+ */
+export const MIN_BROOD_BOXES = 1;
+
+/**
+ * Grams of oxalic acid dihydrate for one living colony: brood boxes × dose rate per brood
+ * box. Refuses fewer than MIN_BROOD_BOXES and a rate of 0, so no colony is ever "treated"
+ * with 0 g.
+ */
 export function doseGramsForColony(broodBoxes: number, doseGramsPerBroodBox: number): number {
   assertCount(broodBoxes, "brood boxes");
-  assertRate(doseGramsPerBroodBox, "dose rate");
+  if (broodBoxes < MIN_BROOD_BOXES) {
+    throw new RangeError(`a living colony has at least ${MIN_BROOD_BOXES} brood box, got ${broodBoxes}`);
+  }
+  if (!Number.isFinite(doseGramsPerBroodBox) || doseGramsPerBroodBox <= 0) {
+    throw new RangeError(`dose rate must be a finite number > 0, got ${doseGramsPerBroodBox}`);
+  }
   return roundDoseGrams(broodBoxes * doseGramsPerBroodBox);
 }
 
-/** Grams for a yard whose colonies all have the same number of brood boxes. Zero colonies → 0. */
+/** Grams for a yard whose colonies all have the same number of brood boxes (at least one). Zero colonies → 0. */
 export function doseGramsForYard(
   yard: { colonies: number; broodBoxesPerColony: number },
   doseGramsPerBroodBox: number,

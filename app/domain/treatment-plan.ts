@@ -27,7 +27,7 @@ export interface ColonyDose {
   /** Grams per brood box of this type, from the settings. */
   doseRateGrams: number;
   dosePerColonyGrams: number;
-  /** Vaporizer loads a colony's dose takes; at least 1, so a time is planned even for a 0 g dose. */
+  /** Vaporizer loads a colony's dose takes (at least 1: every living colony's dose is more than 0 g). */
   loadsPerColony: number;
 }
 
@@ -42,7 +42,7 @@ export function colonyDose(yard: { broodBoxesPerColony: number; boxType?: BoxTyp
     boxType,
     doseRateGrams: doseRateForBoxType(settings, boxType),
     dosePerColonyGrams,
-    loadsPerColony: Math.max(1, vaporizerLoadsForDose(dosePerColonyGrams, settings.vaporizerLoadGrams)),
+    loadsPerColony: vaporizerLoadsForDose(dosePerColonyGrams, settings.vaporizerLoadGrams),
   };
 }
 

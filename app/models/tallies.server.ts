@@ -1,7 +1,7 @@
 import type { Knex } from "knex";
 import { formatClock } from "~/components/format";
 import { addCalendarDays } from "~/domain/courses";
-import { BOX_TYPE_LABELS, doseAssumption, doseGramsForColonyOfType, type BoxType } from "~/domain/box-types";
+import { BOX_TYPE_LABELS, doseAssumption, doseGramsForColonyOfType, MIN_BROOD_BOXES, type BoxType } from "~/domain/box-types";
 import { gramsAtDosePerColony } from "~/domain/yard-colony-doses";
 import { doseGramsForSeason } from "~/domain/dose";
 import { assessMiteLoad, mitesPer100Bees, washSampleBees, type MiteLoadAssessment } from "~/domain/mites";
@@ -547,11 +547,12 @@ async function recordTallyTx(trx: Knex.Transaction, input: TallyInput, now: Date
   const boxType = tally.boxType ?? colony.box_type;
   const broodStatus = tally.broodSeen === null ? colony.brood_status : tally.broodSeen ? "brood" : "broodless";
   const settings = await loadBusinessSettings(trx);
-  const doseGrams = tally.outcome === "treated" ? doseGramsForColonyOfType(broodBoxes, boxType, settings) : 0;
-  if (tally.outcome === "treated" && !(doseGrams > 0)) {
-    // Only a colony left with 0 brood boxes gets here; a "treated" tally of 0 g would be a false record.
+  if (tally.outcome === "treated" && !(broodBoxes >= MIN_BROOD_BOXES)) {
+    // Only a colony left with 0 brood boxes (from before the database's check) gets here; a
+    // "treated" tally of 0 g would be a false record, and the dose functions refuse it.
     throw new TallyRefused("invalid", zeroDoseMessage(colony.label), { outcome: zeroDoseMessage(colony.label) });
   }
+  const doseGrams = tally.outcome === "treated" ? doseGramsForColonyOfType(broodBoxes, boxType, settings) : 0;
   const wash = tally.mites === null ? null : washSampleBees({ beesCounted: tally.beesSampled, sampleMl: tally.sampleMl }, settings.beesPer100Ml);
   const recordedAt = notLaterThanNow(tally.recordedAt, now);
 

@@ -26,9 +26,11 @@ describe("dose per colony", () => {
     expect(doseGramsForColony(2, 4)).toBe(8);
   });
 
-  it("gives 0 g for a colony without brood boxes", () => {
-    expect(doseGramsForColony(0, 1)).toBe(0);
-    expect(doseGramsForColony(0, 4)).toBe(0);
+  it("refuses a colony without brood boxes and a rate of 0 g, so no colony is treated with nothing", () => {
+    // common practice: a living colony has at least one brood box; the dose goes by brood box.
+    expect(() => doseGramsForColony(0, 1)).toThrow(/at least 1 brood box/);
+    expect(() => doseGramsForColony(0, 4)).toThrow(RangeError);
+    expect(() => doseGramsForColony(2, 0)).toThrow(/more than 0|> 0/);
   });
 
   it("rounds to 0.01 g, half away from zero", () => {
@@ -48,7 +50,7 @@ describe("dose per colony", () => {
 
   it("scales linearly with brood boxes (rates in whole centigrams)", () => {
     fc.assert(
-      fc.property(fc.integer({ min: 0, max: 50 }), fc.integer({ min: 0, max: 1000 }), (boxes, rateCg) => {
+      fc.property(fc.integer({ min: 1, max: 50 }), fc.integer({ min: 1, max: 1000 }), (boxes, rateCg) => {
         const rate = rateCg / 100;
         expect(gramsToCentigrams(doseGramsForColony(boxes, rate))).toBe(boxes * gramsToCentigrams(doseGramsForColony(1, rate)));
       }),
@@ -57,7 +59,7 @@ describe("dose per colony", () => {
 
   it("stays within 0.005 g of boxes × rate for any rate", () => {
     fc.assert(
-      fc.property(fc.integer({ min: 0, max: 50 }), fc.double({ min: 0, max: 10, noNaN: true }), (boxes, rate) => {
+      fc.property(fc.integer({ min: 1, max: 50 }), fc.double({ min: Number.MIN_VALUE, max: 10, noNaN: true }), (boxes, rate) => {
         expect(Math.abs(doseGramsForColony(boxes, rate) - boxes * rate)).toBeLessThanOrEqual(0.005 + 1e-9);
       }),
     );
@@ -71,16 +73,17 @@ describe("dose per yard, visit, run and season", () => {
     expect(doseGramsForYard({ colonies: 24, broodBoxesPerColony: 1 }, 0.1)).toBe(2.4);
   });
 
-  it("gives 0 g for zero colonies or zero brood boxes", () => {
+  it("gives 0 g for zero colonies and refuses colonies without brood boxes", () => {
     expect(doseGramsForYard({ colonies: 0, broodBoxesPerColony: 2 }, 1)).toBe(0);
-    expect(doseGramsForYard({ colonies: 5, broodBoxesPerColony: 0 }, 1)).toBe(0);
+    expect(() => doseGramsForYard({ colonies: 5, broodBoxesPerColony: 0 }, 1)).toThrow(RangeError);
     expect(doseGramsForVisit([], 1)).toBe(0);
     expect(doseGramsForRun([])).toBe(0);
     expect(doseGramsForSeason([])).toBe(0);
   });
 
   it("adds a visit colony by colony", () => {
-    expect(doseGramsForVisit([1, 2, 0, 3], 1)).toBe(6);
+    expect(doseGramsForVisit([1, 2, 3], 1)).toBe(6);
+    expect(() => doseGramsForVisit([1, 2, 0, 3], 1)).toThrow(RangeError);
     expect(doseGramsForVisit([1, 2], 0.1)).toBe(0.3);
     expect(() => doseGramsForVisit([1, -1], 1)).toThrow(RangeError);
   });
@@ -89,8 +92,8 @@ describe("dose per yard, visit, run and season", () => {
     fc.assert(
       fc.property(
         fc.integer({ min: 0, max: 24 }),
-        fc.integer({ min: 0, max: 4 }),
-        fc.double({ min: 0, max: 5, noNaN: true }),
+        fc.integer({ min: 1, max: 4 }),
+        fc.double({ min: 0.01, max: 5, noNaN: true }),
         (colonies, boxes, rate) => {
           const visit = doseGramsForVisit(new Array<number>(colonies).fill(boxes), rate);
           expect(doseGramsForYard({ colonies, broodBoxesPerColony: boxes }, rate)).toBe(visit);

@@ -52,13 +52,11 @@ describe("yardTreatmentPlan", () => {
     expect(slower.serviceMinutesPerRound).toBeGreaterThan(plan.serviceMinutesPerRound);
   });
 
-  it("needs nothing for a yard with no colonies or no brood boxes", () => {
+  it("needs nothing for a yard with no colonies, and still plans its course", () => {
     const empty = yardTreatmentPlan({ colonies: 0, broodBoxesPerColony: 2, broodStatus: "brood" }, settings, { firstDate: "2026-12-01" });
     expect(empty.dosePerRoundGrams).toBe(0);
     expect(empty.serviceMinutesPerRound).toBe(0);
-    const noBoxes = yardTreatmentPlan({ colonies: 4, broodBoxesPerColony: 0, broodStatus: "brood" }, settings, { firstDate: "2026-12-01" });
-    expect(noBoxes.dosePerColonyGrams).toBe(0);
-    expect(addCalendarDays(noBoxes.rounds[0].date, 14)).toBe(noBoxes.rounds[2].date);
+    expect(addCalendarDays(empty.rounds[0].date, 14)).toBe(empty.rounds[2].date);
   });
 
   it("reports a block band below the sublimation point", () => {
@@ -94,11 +92,14 @@ describe("yardTreatmentPlan", () => {
     expect(twoLoads.dosePerRoundGrams).toBe(oneLoad.dosePerRoundGrams);
   });
 
-  it("still plans one load a colony for a dose of 0 g, so the visit keeps its time", () => {
-    const plan = yardTreatmentPlan({ colonies: 4, broodBoxesPerColony: 0, broodStatus: "brood" }, settings, { firstDate: "2026-12-01" });
-    expect(plan.loadsPerColony).toBe(1);
-    // 4 colonies × 1 load on the default 2 vaporizers = 2 cycles → 15 + 2 × 35/60 + 1 × 2 + 10 = 28.1666… min
-    expect(plan.serviceMinutesPerRound).toBeCloseTo(169 / 6, 12);
+  it("refuses to plan colonies without a brood box: a living colony has at least one", () => {
+    // common practice: the dose goes by brood box, and a living colony has at least one.
+    expect(() => yardTreatmentPlan({ colonies: 4, broodBoxesPerColony: 0, broodStatus: "brood" }, settings, { firstDate: "2026-12-01" })).toThrow(/at least 1 brood box/);
+    // The least a colony can have: one deep box, one load, 4 colonies on the default 2 vaporizers
+    // = 2 cycles → 15 + 2 × 35/60 + 1 × 2 + 10 = 28.1666… min
+    const least = yardTreatmentPlan({ colonies: 4, broodBoxesPerColony: 1, broodStatus: "brood" }, settings, { firstDate: "2026-12-01" });
+    expect(least.loadsPerColony).toBe(1);
+    expect(least.serviceMinutesPerRound).toBeCloseTo(169 / 6, 12);
   });
 
   it("plans from the colonies as the crew found them when they differ from the yard, and says so", () => {
