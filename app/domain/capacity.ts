@@ -7,7 +7,9 @@
  * (the business's typical colonies per yard), each costing its service time (set-up,
  * doses, the final entrance wait; see service-time.ts) plus the average drive between
  * yards, with one more drive back at the end of the day. Leftover time takes a smaller
- * yard if one fits. The route planner later uses real drive times and may defer what
+ * yard if one fits. A typical colony takes as many vaporizer loads as most colonies on the
+ * business's books do (typicalLoadsPerColony): where doses run above one load, the day
+ * takes fewer colonies. The route planner later uses real drive times and may defer what
  * does not fit after all; the estimate errs on the side of what a crew can really do.
  *
  * A crew may have limits of its own per day: at most so many colonies, and at most so many
@@ -41,6 +43,8 @@ export interface CapacitySettings extends HiveCycle {
   doseGramsPerBroodBox?: number;
   doseGramsPerMediumBox?: number;
   doseGramsPerNucBox?: number;
+  /** Vaporizer loads a typical colony's dose takes (1 when not given; see typicalLoadsPerColony). */
+  loadsPerTypicalColony?: number;
 }
 
 export interface CrewForCapacity {
@@ -136,8 +140,9 @@ function crewDayEstimate(crew: CrewForCapacity, settings: CapacitySettings): num
   if (!Number.isFinite(crew.workMinutes) || crew.workMinutes <= 0) return 0;
   const drive = settings.averageDriveMinutesBetweenYards;
   let minutesLeft = crew.workMinutes - drive; // the drive home at the end of the day
+  const loadsPerColony = settings.loadsPerTypicalColony ?? 1;
   const yardMinutes = (colonies: number) =>
-    serviceMinutesForYard({ ...settings, colonies, vaporizers: crew.vaporizers }) + drive;
+    serviceMinutesForYard({ ...settings, colonies, vaporizers: crew.vaporizers, loadsPerColony }) + drive;
   const typical = settings.typicalColoniesPerYard;
   const typicalMinutes = yardMinutes(typical);
   let colonies = 0;
@@ -150,6 +155,29 @@ function crewDayEstimate(crew: CrewForCapacity, settings: CapacitySettings): num
   let extra = 0;
   while (extra + 1 < typical && yardMinutes(extra + 1) <= minutesLeft) extra++;
   return colonies + extra;
+}
+
+/**
+ * Vaporizer loads a typical colony takes, from the yards on the books (each yard's colonies
+ * and the loads one of its colonies is planned with): the median over the colonies, the
+ * higher of the two middle ones when they split evenly, so the estimate errs on the side of
+ * the time a crew really needs. 1 when there is no colony.
+ */
+export function typicalLoadsPerColony(yards: readonly { colonies: number; loadsPerColony: number }[]): number {
+  const counted = yards.filter((y) => y.colonies > 0);
+  for (const y of counted) {
+    if (!Number.isInteger(y.colonies)) throw new RangeError(`colonies must be a whole number ≥ 0, got ${y.colonies}`);
+    if (!Number.isInteger(y.loadsPerColony) || y.loadsPerColony < 1) throw new RangeError(`loads per colony must be a whole number ≥ 1, got ${y.loadsPerColony}`);
+  }
+  const total = counted.reduce((sum, y) => sum + y.colonies, 0);
+  if (total === 0) return 1;
+  const sorted = [...counted].sort((a, b) => a.loadsPerColony - b.loadsPerColony);
+  let seen = 0;
+  for (const y of sorted) {
+    seen += y.colonies;
+    if (seen * 2 > total) return y.loadsPerColony;
+  }
+  return sorted.at(-1)!.loadsPerColony; // not reached: the last yard brings `seen` to `total`
 }
 
 export interface ServiceDayState {

@@ -12,7 +12,7 @@ import { centigramsToGrams, gramsToCentigrams } from "~/domain/dose";
 import { addCalendarDays, calendarDaysBetween } from "~/domain/courses";
 import { parseClockTime } from "~/domain/units";
 import type { BusinessSettings } from "~/domain/settings";
-import { plannedYardDoses } from "./yard-doses.server";
+import { plannedYardDoses, typicalColonyLoads } from "./yard-doses.server";
 
 export type DayRoom = {
   date: string;
@@ -88,10 +88,18 @@ export async function activeCrewsForCapacity(db: Knex, date: string): Promise<Cr
   return working(crews, date, false, closures.get(date));
 }
 
+/** The settings with what the day estimate also needs from the books: a typical colony's vaporizer loads. */
+export type CapacityBusinessSettings = BusinessSettings & { loadsPerTypicalColony: number };
+
+/** The business's settings with a typical colony's vaporizer loads, as the day estimate takes them. */
+export async function withTypicalLoads(db: Knex, settings: BusinessSettings): Promise<CapacityBusinessSettings> {
+  return { ...settings, loadsPerTypicalColony: await typicalColonyLoads(db, settings) };
+}
+
 function dayRoom(
   date: string,
   crews: readonly CrewForCapacity[],
-  settings: BusinessSettings,
+  settings: CapacityBusinessSettings,
   day: { capacity_colonies: number | null; closed: boolean } | undefined,
   booked: { colonies: number; grams: number },
 ): DayRoom {
@@ -147,13 +155,14 @@ export async function roomBetween(db: Knex, settings: BusinessSettings, from: st
   const closures = await closedCrewDays(db, from, to);
   const days = await db("service_days").whereBetween("service_date", [from, to]).select("service_date", "capacity_colonies", "closed");
   const booked = await bookedByDay(db, settings, from, to);
+  const estimateSettings = await withTypicalLoads(db, settings);
   const dayByDate = new Map(days.map((d) => [d.service_date, d]));
   const out: DayRoom[] = [];
   const count = calendarDaysBetween(from, to);
   for (let i = 0; i <= count; i++) {
     const date = addCalendarDays(from, i);
     const day = dayByDate.get(date);
-    out.push(dayRoom(date, working(crews, date, false, closures.get(date)), settings, day, booked.get(date) ?? { colonies: 0, grams: 0 }));
+    out.push(dayRoom(date, working(crews, date, false, closures.get(date)), estimateSettings, day, booked.get(date) ?? { colonies: 0, grams: 0 }));
   }
   return out;
 }
@@ -166,7 +175,7 @@ export async function lockDayRoom(trx: Knex.Transaction, settings: BusinessSetti
   // Read after the lock: a crew-day closure takes this same lock, so what is read here holds.
   const crews = await activeCrewsForCapacity(trx, date);
   const booked = await bookedByDay(trx, settings, date, date);
-  return dayRoom(date, crews, settings, day, booked.get(date) ?? { colonies: 0, grams: 0 });
+  return dayRoom(date, crews, await withTypicalLoads(trx, settings), day, booked.get(date) ?? { colonies: 0, grams: 0 });
 }
 
 /** Why a day cannot take more colonies: it is closed (or has no capacity at all), or it is full (in colonies or in grams). */

@@ -4,7 +4,7 @@ import { addCalendarDays } from "~/domain/courses";
 import { parseClockTime } from "~/domain/units";
 import type { CrewFormValues, CrewInput } from "~/forms/crew";
 import { dateInZone } from "~/services/clock.server";
-import { roomBetween } from "./capacity.server";
+import { roomBetween, withTypicalLoads, type CapacityBusinessSettings } from "./capacity.server";
 import { loadBusinessSettings } from "./settings.server";
 import type { CrewRow } from "./tables";
 
@@ -53,7 +53,7 @@ export type CrewSummary = {
 
 const hhmm = (time: string) => String(time).slice(0, 5);
 
-function summaryOf(row: CrewRow, members: CrewMember[], settings: Awaited<ReturnType<typeof loadBusinessSettings>>): CrewSummary {
+function summaryOf(row: CrewRow, members: CrewMember[], settings: CapacityBusinessSettings): CrewSummary {
   const workMinutes = parseClockTime(hhmm(row.work_end)) - parseClockTime(hhmm(row.work_start));
   const maxDose = row.max_dose_grams_per_day == null ? null : Number(row.max_dose_grams_per_day);
   const crew = { workMinutes, vaporizers: row.vaporizers, maxColoniesPerDay: row.max_colonies_per_day, maxDoseGramsPerDay: maxDose };
@@ -93,9 +93,21 @@ async function membersByCrew(db: Knex, crewIds: number[]): Promise<Map<number, C
   return out;
 }
 
+/** What the crews' colonies-a-day estimate assumes: a typical yard's colonies, a typical colony's vaporizer loads, the drive between yards. */
+export type CrewEstimateBasis = { typicalColoniesPerYard: number; loadsPerTypicalColony: number; averageDriveMinutesBetweenYards: number };
+
+export async function crewEstimateBasis(db: Knex): Promise<CrewEstimateBasis> {
+  const settings = await withTypicalLoads(db, await loadBusinessSettings(db));
+  return {
+    typicalColoniesPerYard: settings.typicalColoniesPerYard,
+    loadsPerTypicalColony: settings.loadsPerTypicalColony,
+    averageDriveMinutesBetweenYards: settings.averageDriveMinutesBetweenYards,
+  };
+}
+
 /** Every crew, active first, then by name, with its figures. */
 export async function listCrews(db: Knex): Promise<CrewSummary[]> {
-  const settings = await loadBusinessSettings(db);
+  const settings = await withTypicalLoads(db, await loadBusinessSettings(db));
   const rows = await db("crews").orderBy([{ column: "active", order: "desc" }, { column: "name" }]).select("*");
   const members = await membersByCrew(db, rows.map((r) => Number(r.id)));
   return rows.map((row) => summaryOf(row, members.get(Number(row.id)) ?? [], settings));
@@ -105,7 +117,7 @@ export async function listCrews(db: Knex): Promise<CrewSummary[]> {
 export async function getCrew(db: Knex, crewId: number): Promise<CrewSummary | null> {
   const row = await db("crews").where({ id: crewId }).first();
   if (!row) return null;
-  const settings = await loadBusinessSettings(db);
+  const settings = await withTypicalLoads(db, await loadBusinessSettings(db));
   const members = await membersByCrew(db, [crewId]);
   return summaryOf(row, members.get(crewId) ?? [], settings);
 }

@@ -10,7 +10,7 @@ import { dateInZone } from "~/services/clock.server";
 import { serverEnv } from "~/services/env.server";
 import { requestEmailDelivery } from "~/services/jobs.server";
 import { centigramsToGrams, gramsToCentigrams } from "~/domain/dose";
-import { lockDayRoom, lockDaysForColonies, roomBetween, yardDosesPerColony, type DayRoom } from "./capacity.server";
+import { lockDayRoom, lockDaysForColonies, roomBetween, withTypicalLoads, yardDosesPerColony, type DayRoom } from "./capacity.server";
 import { lockServiceDay } from "./day-plan.server";
 import { queueEmail } from "./emails.server";
 import { loadBusinessSettings } from "./settings.server";
@@ -719,7 +719,7 @@ export async function workingDayDetail(db: Knex, date: string, now = new Date())
     ...state,
     weekday: WEEKDAYS[isoWeekdayOf(date) - 1].name,
     past: calendarDaysBetween(dateInZone(now, settings.timeZone), date) < 0,
-    estimate: dayCapacityColonies(working, settings),
+    estimate: dayCapacityColonies(working, await withTypicalLoads(db, settings)),
     crews,
     openVisits: open.length,
     openColonies: open.reduce((sum, v) => sum + v.colonies_expected, 0),

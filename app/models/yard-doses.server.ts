@@ -1,5 +1,6 @@
 import type { Knex } from "knex";
 import { boxTypeOrDeep, type BoxType } from "~/domain/box-types";
+import { typicalLoadsPerColony } from "~/domain/capacity";
 import { plannedColonyDose, type ColoniesOfShape, type PlannedColonyDose, type PlannedDoseSettings } from "~/domain/yard-colony-doses";
 
 // The dose each yard is planned with, from its active colonies as the crew last corrected
@@ -45,4 +46,16 @@ export async function plannedYardDoses(db: Knex, settings: PlannedDoseSettings, 
     byYard.set(id, entry);
   }
   return new Map([...byYard].map(([id, { yard, colonies }]) => [id, plannedColonyDose(colonies, yard, settings)]));
+}
+
+/**
+ * Vaporizer loads a typical colony on the books takes (typicalLoadsPerColony in capacity.ts):
+ * the median over the colonies of the yards in use (not archived), each yard's colonies
+ * counted at the loads one of them is planned with. 1 when no yard has a colony.
+ */
+export async function typicalColonyLoads(db: Knex, settings: PlannedDoseSettings): Promise<number> {
+  const yards = (await db("yards").whereNull("archived_at").where("colony_count", ">", 0).select("id", "colony_count")) as { id: number; colony_count: number }[];
+  // One query after the other: `db` may be a transaction.
+  const doses = await plannedYardDoses(db, settings, yards.map((y) => Number(y.id)));
+  return typicalLoadsPerColony(yards.map((y) => ({ colonies: Number(y.colony_count), loadsPerColony: doses.get(Number(y.id))?.loadsPerColony ?? 1 })));
 }

@@ -5,7 +5,7 @@ import { buttonClass } from "~/components/ui/button";
 import { PageHeader } from "~/components/ui/card";
 import { FormMessage } from "~/components/ui/field";
 import { Table, Td, Th } from "~/components/ui/table";
-import { listCrews, overbookedDaysAhead } from "~/models/crews.server";
+import { crewEstimateBasis, listCrews, overbookedDaysAhead } from "~/models/crews.server";
 import { db } from "~/services/db.server";
 import { AREA_ROLES, requireRole } from "~/services/permissions.server";
 import type { Route } from "./+types/crews";
@@ -19,13 +19,13 @@ export async function loader({ request }: Route.LoaderArgs) {
   await requireRole(request, AREA_ROLES.dispatch);
   const url = new URL(request.url);
   const notice = url.searchParams.has("added") ? "Crew added." : url.searchParams.has("saved") ? "Crew saved." : null;
-  return { crews: await listCrews(db), overbooked: await overbookedDaysAhead(db), notice };
+  return { crews: await listCrews(db), overbooked: await overbookedDaysAhead(db), basis: await crewEstimateBasis(db), notice };
 }
 
 const linkStyle = "inline-flex min-h-11 items-center font-semibold text-pine-800 underline underline-offset-4";
 
 export default function DispatchCrews({ loaderData }: Route.ComponentProps) {
-  const { crews, overbooked, notice } = loaderData;
+  const { crews, overbooked, basis, notice } = loaderData;
   return (
     <>
       <PageHeader
@@ -117,6 +117,10 @@ export default function DispatchCrews({ loaderData }: Route.ComponentProps) {
       <p className="mt-2 text-sm text-ink-soft">
         Daily limits: the most colonies, and the most grams of oxalic acid, the crew is given a day. Colonies counted a day: what the booking calendar takes for the crew on a day it works — its working hours filled with typical yards (settings), never more than its
         own limits. The day planner then routes with real drive times.
+      </p>
+      <p className="mt-1 text-sm text-ink-soft" data-testid="estimate-basis">
+        A typical yard here: {basis.typicalColoniesPerYard} {basis.typicalColoniesPerYard === 1 ? "colony" : "colonies"}, each dosed in {basis.loadsPerTypicalColony} vaporizer{" "}
+        {basis.loadsPerTypicalColony === 1 ? "load" : "loads"} (as most colonies on your books are), with {basis.averageDriveMinutesBetweenYards} min of driving to the next.
       </p>
       <SafetyCautions audience="staff" className="mt-6" />
     </>
