@@ -614,8 +614,15 @@ async function applyChange(
     action: auditAction,
     entity_type: "service_day",
     entity_id: date,
-    before: JSON.stringify({ ...auditBefore, booked: before.booked }),
-    after: JSON.stringify({ ...auditAfter, capacityNow: room.capacity, moved: moved.map((m) => ({ visitId: m.visitId, toDate: m.toDate })) }),
+    // Grams too: a crew's daily gram limit can be what moves visits (null: grams do not bind the day).
+    before: JSON.stringify({ ...auditBefore, booked: before.booked, gramsCapacity: before.gramsCapacity, gramsBooked: before.gramsBooked }),
+    after: JSON.stringify({
+      ...auditAfter,
+      capacityNow: room.capacity,
+      gramsCapacityNow: room.gramsCapacity,
+      gramsBookedNow: room.gramsBooked,
+      moved: moved.map((m) => ({ visitId: m.visitId, toDate: m.toDate })),
+    }),
   });
   return { result: { date, intent: change.intent, moved, draftRunsChanged, room }, emailIds };
 }

@@ -138,6 +138,10 @@ describe("closing the day of a crew with a daily gram limit", () => {
     expect(await dateOf(six)).toBe(D);
     expect(await dateOf(two)).toBe(D);
     expect(result.room).toMatchObject({ booked: 5, gramsBooked: 8, gramsRemaining: 2 });
+    // The audit entry keeps the day's grams as well as its colonies, before and after.
+    const audit = await db("audit_log").where({ action: "crew_day.close", entity_id: D }).first("before", "after");
+    expect(audit?.before).toMatchObject({ booked: 14, gramsCapacity: 30, gramsBooked: 23 });
+    expect(audit?.after).toMatchObject({ gramsCapacityNow: 10, gramsBookedNow: 8 });
     expect((await roomBetween(db, settings, addCalendarDays(D, 1), addCalendarDays(D, 1)))[0]).toMatchObject({ gramsBooked: 26, gramsRemaining: 4 });
     await expectNoDayOverfilled();
     // Each moved visit is audited and its customer e-mailed.
