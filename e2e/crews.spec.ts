@@ -11,6 +11,8 @@ test("the dispatcher adds a crew with a colony limit and weekdays, and edits it"
   await page.getByRole("link", { name: "Crews", exact: true }).first().click();
   await expect(page).toHaveURL(/\/dispatch\/crews$/);
   await expect(page.getByRole("heading", { level: 1, name: "Crews" })).toBeVisible();
+  // The estimate's basis: the settings' typical yard, at the loads most colonies on the books take.
+  await expect(page.getByTestId("estimate-basis")).toHaveText(/^A typical yard here: \d+ colonies, each dosed in \d+ vaporizer loads? \(as most colonies on your books are\), with \d+ min of driving to the next\.$/);
   await page.getByRole("link", { name: "Add a crew" }).click();
   await expect(page).toHaveURL(/\/dispatch\/crews\/new$/);
 
