@@ -126,7 +126,10 @@ export type MiteLoadLevel = "below" | "at" | "above";
 
 /** A mite count assessed against the season's threshold. */
 export interface MiteLoadAssessment {
-  /** Mites per 100 bees, rounded to 0.01. */
+  /**
+   * Mites per 100 bees as worked out, unrounded: round it only to show it (formatMitesPer100),
+   * so the figure shown and the verdict come from one rounding of the same value.
+   */
   mitesPer100: number;
   /** The threshold in force on the sample date. */
   threshold: number;
@@ -154,8 +157,9 @@ export function atOrAboveThreshold(mitesPer100: number, threshold: number): bool
 
 /**
  * Assesses a wash or roll: mites per 100 bees against the threshold for the sample date's
- * month. The load is kept to 0.01 (for records and averages); the verdict compares both
- * figures at the precision shown to people (miteLoadLevel).
+ * month. The load is kept unrounded; the verdict compares it at the precision shown to
+ * people (miteLoadLevel). Rounding it to 0.01 first would round twice: 53 in 1798 bees is
+ * 2.948, shown "2.9" and below a threshold of 3, but 2.95 would show "3.0" and count as at it.
  */
 export function assessMiteLoad(
   mites: number,
@@ -163,9 +167,9 @@ export function assessMiteLoad(
   isoDate: string,
   thresholds: readonly MiteThreshold[],
 ): MiteLoadAssessment {
-  const load = roundTo(mitesPer100Bees(mites, beesSampled), 2);
+  const load = mitesPer100Bees(mites, beesSampled);
   const threshold = roundTo(thresholdOn(isoDate, thresholds), 2);
-  // The 0.01 figure is what screens and reports format, so the verdict is taken from it too.
+  // Screens format this same unrounded figure, so what they show and the verdict agree.
   return { mitesPer100: load, threshold, level: miteLoadLevel(load, threshold) };
 }
 

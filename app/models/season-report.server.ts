@@ -209,12 +209,15 @@ export async function seasonReportForCustomer(
       const list = talliesByVisit.get(Number(r.visit_id)) ?? [];
       const counted = list.filter((t) => t.mites !== null && t.bees_sampled !== null && t.bees_sampled > 0);
       const loads = counted.map((t) => mitesPer100Bees(t.mites!, t.bees_sampled!));
-      const average = loads.length ? roundTo(loads.reduce((s, v) => s + v, 0) / loads.length, 2) : null;
+      // Unrounded for the verdict and the words, which round it once to what they show; the
+      // figure kept is rounded to 0.01 (rounding that again to one decimal could differ).
+      const exactAverage = loads.length ? loads.reduce((s, v) => s + v, 0) / loads.length : null;
+      const average = exactAverage === null ? null : roundTo(exactAverage, 2);
       const threshold = safeThreshold(r.service_date, settings.miteThresholds);
       const change = average !== null && previous !== null ? roundTo(average - previous, 2) : null;
       const fewer = average !== null && previous !== null ? percentReduction(previous, average) : null;
       // Compared as shown (one decimal), so a round shown as "3.0" is never "above" a threshold of 3.
-      const level = average !== null && threshold !== null ? miteLoadLevel(average, threshold) : null;
+      const level = exactAverage !== null && threshold !== null ? miteLoadLevel(exactAverage, threshold) : null;
       const percentFewer = fewer === null ? null : roundTo(fewer, 1);
       yardRounds.push({
         visitId: Number(r.visit_id),
@@ -231,7 +234,7 @@ export async function seasonReportForCustomer(
         changeFromPrevious: change,
         percentFewerThanPrevious: percentFewer,
         text: {
-          mites: average === null ? "Not counted" : `${per100Text(average)} (average of ${plural(counted.length, "colony", "colonies")})`,
+          mites: exactAverage === null ? "Not counted" : `${per100Text(exactAverage)} (average of ${plural(counted.length, "colony", "colonies")})`,
           verdict: levelText(level, threshold),
           change: changeText(change, percentFewer),
         },

@@ -456,7 +456,7 @@ function miteLoadFor(mites: number | null, bees: number | null, serviceDate: str
     const miteLoad = assessMiteLoad(mites, bees, serviceDate, settings.miteThresholds);
     return { mitesPer100: miteLoad.mitesPer100, miteLoad };
   } catch {
-    return { mitesPer100: roundTo(mitesPer100Bees(mites, bees), 2), miteLoad: null };
+    return { mitesPer100: mitesPer100Bees(mites, bees), miteLoad: null };
   }
 }
 

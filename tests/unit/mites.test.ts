@@ -147,7 +147,10 @@ describe("assessMiteLoad", () => {
     // Source: 9 mites in 300 bees = 3.0 per 100 (sources.md); autumn threshold 3 per 100
     // (upper end of 2–3, Honey Bee Health Coalition). 9 / 300 × 100 is 3.0000000000000004 in
     // binary, which must not read as "above".
-    expect(assessMiteLoad(9, 300, "2026-09-15", SEASON)).toEqual({ mitesPer100: 3, threshold: 3, level: "at" });
+    const at = assessMiteLoad(9, 300, "2026-09-15", SEASON);
+    expect(at).toMatchObject({ threshold: 3, level: "at" });
+    expect(at.mitesPer100).toBeCloseTo(3, 12);
+    expect(formatMitesPer100(at.mitesPer100)).toBe("3.0");
   });
 
   it("calls loads either side 'below' and 'above'", () => {
@@ -162,12 +165,26 @@ describe("assessMiteLoad", () => {
     expect(assessMiteLoad(9, 400, "2026-11-01", SEASON).level).toBe("below"); // 2.25 < 2.5
   });
 
-  it("keeps the load to 0.01, and compares it as shown (one decimal)", () => {
-    // 43 / 310 = 13.870… → 13.87
-    expect(assessMiteLoad(43, 310, "2026-08-01", SEASON).mitesPer100).toBe(13.87);
+  it("keeps the load unrounded, and compares it as shown (one decimal)", () => {
+    // Source: COLOSS BEEBOOK Vol. II (Dietemann et al. 2013) worked example: 43 in 310 = 13.87… → 13.9
+    const load = assessMiteLoad(43, 310, "2026-08-01", SEASON).mitesPer100;
+    expect(load).toBeCloseTo(13.8709677, 6);
+    expect(formatMitesPer100(load)).toBe("13.9");
     // 7 mites in 300 bees = 2.333…, shown "2.3": "at" a threshold written as 2.33 (shown "2.3").
     const thresholds = [{ fromMonth: 1, toMonth: 12, mitesPer100: 2.33 }];
     expect(assessMiteLoad(7, 300, "2026-08-01", thresholds).level).toBe("at");
+  });
+
+  it("rounds once, so the figure shown and the verdict agree", () => {
+    // 53 mites in 1798 bees = 2.9477… per 100: shown "2.9", below an autumn threshold of 3.
+    // (Rounded to 0.01 first it would be 2.95, then "3.0" and "at" — a second rounding.)
+    const below = assessMiteLoad(53, 1798, "2026-09-15", SEASON);
+    expect(formatMitesPer100(below.mitesPer100)).toBe("2.9");
+    expect(below.level).toBe("below");
+    // 67 in 2200 = 3.0454…: shown "3.0" and "at" (2 × 0.01 rounding would make it 3.05 → "3.1", above).
+    const at = assessMiteLoad(67, 2200, "2026-09-15", SEASON);
+    expect(formatMitesPer100(at.mitesPer100)).toBe("3.0");
+    expect(at.level).toBe("at");
   });
 
   it("does not call a load shown as 3.0 'above' a threshold of 3", () => {
