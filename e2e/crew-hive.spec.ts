@@ -45,7 +45,8 @@ test("the crew records a cold morning, corrects a colony's boxes, finds brood in
   // A frosty morning: 28 °F (−2.2 °C) is below the band, a warning — never a block.
   await page.getByLabel(/Air temperature at the yard/).fill("28");
   await page.getByRole("button", { name: "Save", exact: true }).click();
-  await expect(page.getByText(/is below the business's band for treating/)).toBeVisible();
+  // Said in the crew's units, as typed.
+  await expect(page.getByText(/^28 °F is below the business's band for treating \([\d.]+–[\d.]+ °F\)/)).toBeVisible();
   const supers = page.getByRole("button", { name: "Supers are off — start treating" });
   if (await supers.isVisible()) await supers.click();
 

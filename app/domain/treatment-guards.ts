@@ -5,6 +5,7 @@
  */
 
 import { addCalendarDays, calendarDaysBetween } from "./courses";
+import { formatTemperature, type UnitSystem } from "./units";
 
 /**
  * Days a worker cell stays capped (egg 3 d, open larva 6 d, capped 12 d, 21 d in all).
@@ -68,14 +69,18 @@ export interface AirTemperatureBand {
   airTempMaxC: number;
 }
 
-/** A warning when the air temperature lies outside the band (both ends allowed), else null. */
-export function airTemperatureWarning(tempC: number, band: AirTemperatureBand): string | null {
+/**
+ * A warning when the air temperature lies outside the band (both ends allowed), else null;
+ * in the units the crew reads (°F for US units), though the band and the check are in °C.
+ */
+export function airTemperatureWarning(tempC: number, band: AirTemperatureBand, system: UnitSystem = "metric"): string | null {
   if (!Number.isFinite(tempC)) throw new RangeError(`temperature must be a finite number, got ${tempC}`);
-  if (tempC < band.airTempMinC) {
-    return `${tempC} °C is below the business's band for treating (${band.airTempMinC}–${band.airTempMaxC} °C). Treat only if the label and your judgement allow it.`;
-  }
-  if (tempC > band.airTempMaxC) {
-    return `${tempC} °C is above the business's band for treating (${band.airTempMinC}–${band.airTempMaxC} °C). Treat only if the label and your judgement allow it.`;
+  const number = (celsius: number) => formatTemperature(celsius, system).replace(/ °[CF]$/, "");
+  const unit = system === "metric" ? "°C" : "°F";
+  const bandText = `(${number(band.airTempMinC)}–${number(band.airTempMaxC)} ${unit})`;
+  const side = tempC < band.airTempMinC ? "below" : tempC > band.airTempMaxC ? "above" : null;
+  if (side) {
+    return `${formatTemperature(tempC, system)} is ${side} the business's band for treating ${bandText}. Treat only if the label and your judgement allow it.`;
   }
   return null;
 }

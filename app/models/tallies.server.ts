@@ -682,7 +682,7 @@ async function recordAirTemperatureTx(trx: Knex.Transaction, input: AirTempInput
   const settings = await loadBusinessSettings(trx);
   const before = await trx("visits").where({ id: access.visitId }).first("air_temp_c");
   await trx("visits").where({ id: access.visitId }).update({ air_temp_c: String(airTempC), updated_at: trx.fn.now() as unknown as Date });
-  const warning = airTemperatureWarning(airTempC, settings);
+  const warning = airTemperatureWarning(airTempC, settings, settings.unitSystem);
   await trx("audit_log").insert({
     actor_user_id: userId,
     action: "visit.air_temp",
@@ -1409,7 +1409,7 @@ export async function crewStopDetail(db: Knex, input: { visitId: number | string
     colonies: rows,
     doseAboveLabel: doseRatesAboveLabel(settings),
     airTempC,
-    airTempWarning: airTempC === null ? null : airTemperatureWarning(airTempC, settings),
+    airTempWarning: airTempC === null ? null : airTemperatureWarning(airTempC, settings, settings.unitSystem),
     otherTallies: all.filter((t) => !activeLabels.has(t.colonyLabel)),
     totals: {
       colonies: rows.length,

@@ -132,7 +132,8 @@ describe("the air temperature at the yard", () => {
     const key = aKey("air");
     const [first] = await applySyncBatch(db, { crewId: crew.id, userId: crewUser, changes: [change(key, 2.5)] });
     expect(first).toMatchObject({ status: "applied", kind: "air_temp" });
-    expect(first.message).toMatch(/2\.5 °C is below the business's band for treating \(4–30 °C\)/);
+    // The business works in US units (the default): 2.5 °C is 36.5 °F, the 4–30 °C band 39.2–86 °F.
+    expect(first.message).toMatch(/36\.5 °F is below the business's band for treating \(39\.2–86 °F\)/);
     const [again] = await applySyncBatch(db, { crewId: crew.id, userId: crewUser, changes: [change(key, 2.5)] });
     expect(again.status).toBe("duplicate");
     expect(await db("audit_log").where({ action: "visit.air_temp" })).toHaveLength(1);

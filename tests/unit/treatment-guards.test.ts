@@ -41,6 +41,10 @@ describe("air temperature band", () => {
     expect(airTemperatureWarning(3.9, band)).toMatch(/below/);
     expect(airTemperatureWarning(31, band)).toMatch(/above/);
     expect(() => airTemperatureWarning(Number.NaN, band)).toThrow(RangeError);
+    // In the crew's units: 3.9 °C is 39.0 °F (× 9/5 + 32, the Celsius–Fahrenheit definition), the band 39.2–86 °F.
+    expect(airTemperatureWarning(3.9, band, "us")).toMatch(/^39 °F is below the business's band for treating \(39\.2–86 °F\)/);
+    expect(airTemperatureWarning(3.9, band, "metric")).toMatch(/^3\.9 °C is below the business's band for treating \(4–30 °C\)/);
+    expect(airTemperatureWarning(31, band, "us")).toMatch(/^87\.8 °F is above/);
   });
 });
 

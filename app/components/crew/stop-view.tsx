@@ -40,7 +40,7 @@ export function StopView({
   const [airTemp, setAirTemp] = useState(stop.airTempC == null ? "" : String(celsiusForDisplay(stop.airTempC, settings.unitSystem)));
   const [airTempError, setAirTempError] = useState<string | null>(null);
   const band = settings.airTempMinC !== undefined && settings.airTempMaxC !== undefined ? { airTempMinC: settings.airTempMinC, airTempMaxC: settings.airTempMaxC } : null;
-  const airTempWarning = stop.airTempC != null && band ? airTemperatureWarning(stop.airTempC, band) : null;
+  const airTempWarning = stop.airTempC != null && band ? airTemperatureWarning(stop.airTempC, band, settings.unitSystem) : null;
   function saveAirTemp() {
     if (!airTemp.trim()) return;
     const celsius = typedAirTempToCelsius(airTemp, settings.unitSystem);
