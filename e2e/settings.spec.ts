@@ -38,7 +38,7 @@ test("the owner changes the dose rate and units, and the yard plan shows the new
   await page.getByLabel("My label allows this dose").check();
   await page.getByRole("button", { name: "Save settings" }).click();
   await expect(page.getByText("Settings saved.")).toBeVisible();
-  await expect(page.getByRole("note").filter({ hasText: "Above the label maximum of 1 g per brood box: deep boxes 1.5 g" })).toBeVisible();
+  await expect(page.getByRole("note").filter({ hasText: "Above the label maximum of 1 g per brood box: deep boxes 1.5 g" })).toContainText("Saved with the owner's confirmation");
   await expect(page.getByLabel("My label allows this dose")).not.toBeChecked();
   const [audit] = await queryTestDatabase<{ rate: string; confirmed: boolean }>(
     "select after->>'doseGramsPerBroodBox' as rate, (after->>'doseAboveLabelConfirmed')::boolean as confirmed from audit_log where action = 'settings.update' order by id desc limit 1",

@@ -144,8 +144,10 @@ export default function Settings({ loaderData, actionData }: Route.ComponentProp
               {section.title === "Product and dose" && aboveLabel.length ? (
                 <p className="mt-2 rounded-lg border-2 border-ochre-700 bg-card p-3 font-semibold text-ochre-700" role="note">
                   Above the label maximum of {settings.labelMaximumGramsPerBroodBox} g per brood box:{" "}
-                  {aboveLabel.map((r) => `${r.label.toLowerCase()} boxes ${r.grams} g`).join(", ")}. Saved with the owner's confirmation that the label allows it; crews see this
-                  on every stop.
+                  {aboveLabel.map((r) => `${r.label.toLowerCase()} boxes ${r.grams} g`).join(", ")}.{" "}
+                  {settings.doseAboveLabelConfirmed
+                    ? "Saved with the owner's confirmation that the label allows it; crews see this on every stop."
+                    : "Saved before the owner's confirmation was asked for: correct the rate, or confirm that your label allows it, and save. Crews see this on every stop."}
                 </p>
               ) : null}
               {section.title === "Vaporizer and time at a yard" && bandWarnings.length ? (
