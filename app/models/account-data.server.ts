@@ -1,6 +1,7 @@
 import { randomBytes } from "node:crypto";
 import type { Knex } from "knex";
 import { z } from "zod";
+import { dateInZone } from "~/services/clock.server";
 import { invoiceTotals } from "./invoices.server";
 import { endUserSessions } from "./sessions.server";
 import { loadBusinessSettings } from "./settings.server";
@@ -243,9 +244,11 @@ export type AccountOverview = {
 /**
  * The day a customer's application-record fields are kept until if the account is deleted:
  * the last finished visit with a treated colony plus the retention in years (29 February
- * becomes 28 February), or null when no colony of theirs was ever treated.
+ * becomes 28 February), or null when no colony of theirs was ever treated. Given `today`
+ * (the business's date), also null when that day is already past: nothing needs the fields
+ * any longer, so they go at once rather than at the worker's next sweep.
  */
-export async function recordsKeptUntilFor(db: Knex, customerId: number, retentionYears: number): Promise<string | null> {
+export async function recordsKeptUntilFor(db: Knex, customerId: number, retentionYears: number, today?: string): Promise<string | null> {
   const row = (await db("visits as v")
     .join("yards as y", "y.id", "v.yard_id")
     .where("y.customer_id", customerId)
@@ -254,7 +257,9 @@ export async function recordsKeptUntilFor(db: Knex, customerId: number, retentio
     .first(db.raw("to_char(max(v.service_date) + make_interval(years => ?), 'YYYY-MM-DD') as kept_until", [retentionYears]))) as unknown as
     | { kept_until: string | null }
     | undefined;
-  return row?.kept_until ?? null;
+  const keptUntil = row?.kept_until ?? null;
+  // ISO dates compare as strings.
+  return keptUntil !== null && today !== undefined && keptUntil < today ? null : keptUntil;
 }
 
 export async function accountOverview(db: Knex, customerId: number | string, today: string): Promise<AccountOverview> {
@@ -294,7 +299,7 @@ export async function accountOverview(db: Knex, customerId: number | string, tod
     invoices: invoices.n,
     openInvoices: totals.open,
     visitInProgress: counts.in_progress > 0,
-    recordsKeptUntil: await recordsKeptUntilFor(db, id, recordRetentionYears),
+    recordsKeptUntil: await recordsKeptUntilFor(db, id, recordRetentionYears, today),
   };
 }
 
@@ -546,8 +551,8 @@ export async function deleteCustomerAccount(
     // The settings row shared-locked: an owner raising the retention meanwhile (which extends
     // existing holds under that row's lock) either finishes first or waits for this deletion.
     await trx("settings").where({ key: "business" }).forShare().first("key");
-    const { recordRetentionYears } = await loadBusinessSettings(trx);
-    const keptUntil = await recordsKeptUntilFor(trx, customerId, recordRetentionYears);
+    const { recordRetentionYears, timeZone } = await loadBusinessSettings(trx);
+    const keptUntil = await recordsKeptUntilFor(trx, customerId, recordRetentionYears, dateInZone(new Date(), timeZone));
     await trx("customers")
       .where({ id: customerId })
       .update({

@@ -265,3 +265,19 @@ describe("deleting an account without treated visits", () => {
     expect(await db("audit_log").where({ action: "customer.records_anonymised" })).toEqual([]);
   });
 });
+
+describe("deleting an account whose records are already past their keeping date", () => {
+  it("anonymises the record fields at once, as the sweep would the next day", async () => {
+    const ash = await aCustomer("Ash", "9 Quarry Road", 42.46112, -76.35521);
+    // Treated in October 2022: with the 2-year retention (the default) kept until 6 October 2024.
+    await aFinishedVisit(ash.customerId, ash.yardIds[0], "2022-10-06", "treated");
+    expect((await accountOverview(db, ash.customerId, "2024-10-06")).recordsKeptUntil).toBe("2024-10-06"); // the last day kept
+    expect((await accountOverview(db, ash.customerId, "2024-10-07")).recordsKeptUntil).toBeNull(); // already past
+
+    const result = await deleteCustomerAccount(db, { customerId: ash.customerId, actorUserId: ash.userId });
+    expect(result.keptUntil).toBeNull();
+    expect(result.yardsAnonymised).toBe(2);
+    expect((await customerRow(ash))!).toMatchObject({ name: `Deleted customer ${ash.customerId}`, address_line: null, records_kept_until: null });
+    expect((await yardRows(ash)).map((y) => y.address)).toEqual(["Dryden, NY", "Dryden, NY"]);
+  });
+});
