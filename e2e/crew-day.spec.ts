@@ -52,7 +52,9 @@ test("the crew ticks the safety check, tallies every colony of the first stop an
   const colonies = page.getByRole("list", { name: "Colonies to tally" }).locator(":scope > li");
   await expect(colonies).toHaveCount(stop.colonies);
   await expect(colonies.first().getByRole("button", { name: /^Treated/ })).toBeDisabled();
-  await expect(page.getByText("Blocked: confirm the supers are off first.").first()).toBeVisible();
+  await expect(page.getByText("Treated is blocked: confirm the supers are off first. A colony with a super on can be skipped now.").first()).toBeVisible();
+  // Skipping stays open: a colony with a super on is skipped, not treated.
+  await expect(colonies.first().getByRole("button", { name: /^Skipped/ })).toBeEnabled();
   await page.screenshot({ path: "test-results/screenshots/crew-stop-390.png", fullPage: true });
   await expectAccessible(page, "stop");
   await page.getByRole("button", { name: "Supers are off — start treating" }).click();
@@ -84,6 +86,9 @@ test("the crew ticks the safety check, tallies every colony of the first stop an
   await expect(page.getByRole("heading", { name: "Visit finished" })).toBeVisible();
   await expect(page.getByTestId("sync-status")).toHaveText(/All work sent/, { timeout: 30_000 });
   await expect(page.getByText(/The office could not take/)).toHaveCount(0);
+  // A finished stop's tallies can no longer be changed on the phone.
+  await expect(colonies.first().getByRole("button", { name: /^Skipped/ })).toBeDisabled();
+  await expect(colonies.first().getByRole("button", { name: /^Correct boxes/ })).toBeDisabled();
 
   // On the server: one tally per colony, the visit done.
   const [server] = await queryTestDatabase<{ tallies: number; skipped: number; washed: number; status: string }>(

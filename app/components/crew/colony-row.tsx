@@ -74,14 +74,18 @@ export function ColonyRow({
   serviceDate,
   locked,
   lockedReason,
+  done,
   onChange,
 }: {
   colony: FieldColony;
   tally: FieldTally | undefined;
   settings: FieldSettings;
   serviceDate: string;
+  /** Treated is blocked (the supers are not confirmed off); skipping stays open. */
   locked: boolean;
   lockedReason: string | null;
+  /** The visit is finished: nothing in the row can change any more. */
+  done: boolean;
   onChange: (tally: FieldTally) => void;
 }) {
   const [showWash, setShowWash] = useState(tally?.mites != null);
@@ -143,6 +147,7 @@ export function ColonyRow({
   const atSeasonCap = colony.applicationCap !== undefined && colony.applicationsBefore !== undefined && colony.applicationsBefore >= colony.applicationCap;
   return (
     <li className={`rounded-xl border-2 p-3 ${tally ? (tally.outcome === "treated" ? "border-pine-700 bg-pine-50" : "border-ochre-500 bg-ochre-100") : "border-line bg-card"}`} data-colony={colony.label}>
+      <fieldset disabled={done} className="m-0 min-w-0 border-0 p-0">
       <div className="flex flex-wrap items-center justify-between gap-2">
         <p className="text-xl font-bold">
           {colony.label}
@@ -178,7 +183,6 @@ export function ColonyRow({
         </button>
         <button
           type="button"
-          disabled={locked && !tally}
           aria-pressed={showSkip}
           onClick={() => setSkipping(true)}
           className={`${BIG} ${showSkip ? "border-ochre-700 bg-ochre-500 text-ink" : "border-ochre-700 bg-card text-ochre-700"}`}
@@ -234,7 +238,6 @@ export function ColonyRow({
         {tally?.outcome !== "skipped" ? <DoseTimer seconds={settings.sublimationSeconds} label={colony.label} /> : null}
         <button
           type="button"
-          disabled={locked && !tally}
           onClick={() => setShowFindings((v) => !v)}
           aria-expanded={showFindings}
           className={`min-h-11 rounded-lg border-2 px-3 font-semibold disabled:opacity-50 ${corrected ? "border-pine-700 bg-pine-50" : "border-line bg-card"}`}
@@ -245,7 +248,7 @@ export function ColonyRow({
           {showWash ? "Hide wash count" : "Add wash count"} <span className="sr-only">for {colony.label}</span>
         </button>
       </div>
-      {showFindings ? <HiveFindings label={colony.label} findings={findings} disabled={locked && !tally} onChange={changeFindings} /> : null}
+      {showFindings ? <HiveFindings label={colony.label} findings={findings} disabled={done} onChange={changeFindings} /> : null}
       {!showFindings && findings.broodSeen !== null ? (
         <p className="mt-1 font-semibold text-ink-soft">{findings.broodSeen ? "Brood seen" : "No brood seen"}</p>
       ) : null}
@@ -327,6 +330,7 @@ export function ColonyRow({
         <input defaultValue={tally?.notes ?? ""} onBlur={(e) => (e.target.value !== (tally?.notes ?? "") ? save({ notes: e.target.value || null }) : undefined)} className="min-h-12 rounded-lg border-2 border-line bg-card px-3" />
       </label>
       ) : null}
+      </fieldset>
     </li>
   );
 }

@@ -90,7 +90,9 @@ export function stopTotals(stop: FieldStop): StopTotals {
 /** Why the stop cannot be finished yet, or null when it can. */
 export function finishBlocker(stop: FieldStop): string | null {
   if (stop.status === "done") return "This visit is finished.";
-  if (!stop.supersConfirmed) return "Confirm that the honey supers are off first.";
+  // Skipped colonies need no confirmation (the server asks for it only when one was treated).
+  const anyTreated = stop.colonies.some((c) => stop.tallies[c.label]?.outcome === "treated");
+  if (!stop.supersConfirmed && anyTreated) return "Confirm that the honey supers are off first.";
   const missing = stop.colonies.filter((c) => !stop.tallies[c.label]);
   if (missing.length) return `Record every colony first: ${missing.map((c) => c.label).join(", ")} still open.`;
   const reasonless = stop.colonies.filter((c) => stop.tallies[c.label]?.outcome === "skipped" && !stop.tallies[c.label]?.skipReason);

@@ -150,8 +150,9 @@ export function StopView({
             tally={stop.tallies[colony.label]}
             settings={settings}
             serviceDate={serviceDate}
-            locked={!stop.supersConfirmed || done}
-            lockedReason={done ? null : !stop.supersConfirmed ? "Blocked: confirm the supers are off first." : null}
+            locked={!stop.supersConfirmed}
+            lockedReason={done ? null : !stop.supersConfirmed ? "Treated is blocked: confirm the supers are off first. A colony with a super on can be skipped now." : null}
+            done={done}
             onChange={onTally}
           />
         ))}
