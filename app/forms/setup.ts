@@ -110,6 +110,17 @@ export function parseSetupForm(values: Record<string, string | string[]>): { ok:
     // The form shows the tax rate in percent under its own name.
     if (settingErrors.taxRateBasisPoints) settingErrors.taxRatePercent = "Enter a tax rate from 0 to 30 %, or 0 if your services are not taxed.";
     delete settingErrors.taxRateBasisPoints;
+    // Set-up has no confirmation box for a dose above the label: the deep rate must keep to it
+    // here. The medium and nuc rates it scales from the deep rate are not on the form, so
+    // their errors (only ever the deep rate's, scaled) are left to the deep rate's message.
+    if (settingErrors.doseGramsPerBroodBox) {
+      settingErrors.doseGramsPerBroodBox = settingErrors.doseGramsPerBroodBox.replace(
+        / To save it anyway, tick “My label allows this dose”\.$/,
+        " Keep to the label here; a higher rate your label allows can be confirmed in Settings afterwards.",
+      );
+    }
+    delete settingErrors.doseGramsPerMediumBox;
+    delete settingErrors.doseGramsPerNucBox;
     for (const [field, message] of Object.entries(settingErrors)) errors[field] ??= message;
   }
   if (missingRegistration) errors.productRegistrationNumber ??= missingRegistration;

@@ -40,6 +40,17 @@ describe("setup's dose rates for smaller boxes", () => {
     expect(parsed.errors.doseGramsPerBroodBox).toMatch(/label maximum/);
     expect(parsed.errors).not.toHaveProperty("doseGramsPerMediumBox");
   });
+
+  it("asks for no tick box set-up does not have, and marks no field set-up does not show", () => {
+    // 1.5 g a deep box over a 1 g label: the medium box scaled to 1.05 g is above the label too.
+    const parsed = parseSetupForm({ ...VALID, labelMaximumGramsPerBroodBox: "1", doseGramsPerBroodBox: "1.5" });
+    expect(parsed.ok).toBe(false);
+    if (parsed.ok) return;
+    expect(parsed.errors.doseGramsPerBroodBox).toMatch(/exceeds the label maximum you entered \(1 g\)\. Follow the product label\. Keep to the label here/);
+    expect(parsed.errors.doseGramsPerBroodBox).not.toMatch(/tick/);
+    expect(parsed.errors).not.toHaveProperty("doseGramsPerMediumBox");
+    expect(parsed.errors).not.toHaveProperty("doseGramsPerNucBox");
+  });
 });
 
 describe("setup's product registration number", () => {
