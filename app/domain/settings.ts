@@ -191,7 +191,11 @@ export const businessSettingsSchema = businessSettingsFieldsSchema.superRefine((
     // Only once both figures are valid on their own (their own messages come first).
     const wellFormed = Number.isInteger(settings.roundsWithBrood) && settings.roundsWithBrood >= 1 && Number.isFinite(settings.roundIntervalDays);
     const span = wellFormed ? plannedCourseSpanProblem(settings.roundsWithBrood, settings.roundIntervalDays) : null;
-    if (span) ctx.addIssue({ code: "custom", message: span, path: ["roundsWithBrood"] });
+    // At both figures: either may be the one the owner changed.
+    if (span) {
+      ctx.addIssue({ code: "custom", message: span, path: ["roundsWithBrood"] });
+      ctx.addIssue({ code: "custom", message: span, path: ["roundIntervalDays"] });
+    }
     if (settings.maxApplicationsPerColonyPerSeason < settings.roundsWithBrood) {
       ctx.addIssue({
         code: "custom",
@@ -201,6 +205,7 @@ export const businessSettingsSchema = businessSettingsFieldsSchema.superRefine((
     }
     if (settings.airTempMinC >= settings.airTempMaxC) {
       ctx.addIssue({ code: "custom", message: "The highest air temperature must be above the lowest.", path: ["airTempMaxC"] });
+      ctx.addIssue({ code: "custom", message: "The lowest air temperature must be below the highest.", path: ["airTempMinC"] });
     }
     for (const problem of checkVaporizerBand({ minC: settings.blockMinC, maxC: settings.blockMaxC })) {
       if (problem.severity !== "error") continue; // warnings are shown, never block saving

@@ -76,7 +76,7 @@ describe("business settings", () => {
     // (0.7 g and 0.5 g of 1 g by default: 0.35 g and 0.25 g), not above the label.
     expect(loaded).toMatchObject({ doseGramsPerMediumBox: 0.35, doseGramsPerNucBox: 0.25 });
     // The settings page marks the rule the saved figures break.
-    expect(settingsRuleProblems(loaded)).toEqual({ roundsWithBrood: expect.stringMatching(/span at least 12 days/) });
+    expect(settingsRuleProblems(loaded)).toEqual({ roundsWithBrood: expect.stringMatching(/span at least 12 days/), roundIntervalDays: expect.stringMatching(/span at least 12 days/) });
     expect(settingsRuleProblems(defaultBusinessSettings)).toBeNull();
   });
 

@@ -171,6 +171,8 @@ describe("validation messages per field", () => {
     // Source: Winston 1987, The Biology of the Honey Bee — a worker cell stays capped 12 days (from memory).
     // 3 rounds 5 days apart span 10 days: a cell capped just after round 1 opens after round 3.
     expect(errorsFor({ roundsWithBrood: 3, roundIntervalDays: 5 }).roundsWithBrood?.[0]).toMatch(/span 10 days.*at least 12 days/);
+    // At both figures: the owner may have changed either.
+    expect(errorsFor({ roundsWithBrood: 3, roundIntervalDays: 5 }).roundIntervalDays?.[0]).toMatch(/span 10 days.*at least 12 days/);
     // 3 rounds 6 days apart span exactly 12 days; the default 3 × 7 spans 14.
     expect(validateBusinessSettings({ roundsWithBrood: 3, roundIntervalDays: 6, maxApplicationsPerColonyPerSeason: 4 }).ok).toBe(true);
     expect(validateBusinessSettings({}).ok).toBe(true);
@@ -189,6 +191,7 @@ describe("validation messages per field", () => {
 
   it("needs the air temperature band's top above its bottom", () => {
     expect(errorsFor({ airTempMinC: 10, airTempMaxC: 10 }).airTempMaxC?.[0]).toMatch(/above the lowest/);
+    expect(errorsFor({ airTempMinC: 10, airTempMaxC: 10 }).airTempMinC?.[0]).toMatch(/below the highest/);
     expect(validateBusinessSettings({ airTempMinC: -5, airTempMaxC: 35 }).ok).toBe(true);
   });
 
