@@ -212,6 +212,12 @@ test("the crew counts a wash by the half-cup scoop: the bees are estimated from 
       [stop!.visit_id, colony.label],
     );
     expect(tally).toEqual({ mites: 9, bees_sampled: bees, wash_sample_ml: "118.3", bees_estimated: true });
+    // Read again from the office, the row shows the bees as estimated when recorded (a later
+    // change of the setting does not rewrite what the crew was shown).
+    await queryTestDatabase("update tallies set bees_sampled = bees_sampled + 1 where visit_id = $1 and colony_label = $2", [stop!.visit_id, colony.label]);
+    await page.reload();
+    await page.getByRole("button", { name: new RegExp(`Stop ${number}: ${stop!.yard_name}`) }).click();
+    await expect(row.getByText(`About ${bees + 1} bees, estimated from 118.3 mL when the wash was recorded.`)).toBeVisible();
   } finally {
     // Leave the demo as it was for the journeys after this one.
     await queryTestDatabase("delete from tallies where visit_id = $1", [stop!.visit_id]);

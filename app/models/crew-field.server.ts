@@ -102,7 +102,7 @@ export async function crewFieldRun(db: Knex, crewId: number | string, serviceDat
         .filter((t) => t.visit_id === s.visitId)
         .map((t): [string, FieldTally] => [
           t.colony_label,
-          { colonyLabel: t.colony_label, outcome: t.outcome, skipReason: t.skip_reason as SkipReason | null, skipNote: t.skip_note, mites: t.mites, beesSampled: t.bees_estimated ? null : t.bees_sampled, sampleMl: t.wash_sample_ml === null ? null : Number(t.wash_sample_ml), notes: t.notes, broodSeen: t.brood_seen ?? null },
+          { colonyLabel: t.colony_label, outcome: t.outcome, skipReason: t.skip_reason as SkipReason | null, skipNote: t.skip_note, mites: t.mites, beesSampled: t.bees_estimated ? null : t.bees_sampled, estimatedBees: t.bees_estimated ? t.bees_sampled : null, sampleMl: t.wash_sample_ml === null ? null : Number(t.wash_sample_ml), notes: t.notes, broodSeen: t.brood_seen ?? null },
         ]),
     ),
   }));

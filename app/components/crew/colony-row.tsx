@@ -113,7 +113,7 @@ export function ColonyRow({
     const { mites, bees, volume, complete } = washInput(ml);
     if (!complete) return;
     if (mites === (tally?.mites ?? null) && bees === (tally?.beesSampled ?? null) && volume === (tally?.sampleMl ?? null)) return;
-    save({ mites, beesSampled: bees, sampleMl: volume });
+    save({ mites, beesSampled: bees, sampleMl: volume, estimatedBees: null });
   };
   const washCheck = washInput();
   const washHalf = !washCheck.complete;
@@ -139,7 +139,11 @@ export function ColonyRow({
   const corrected = findings.broodBoxes !== colony.broodBoxes || findings.boxType !== recordBoxType || findings.broodSeen !== null;
   // Bees counted win; otherwise the estimate from the volume, as the server makes it.
   const estimatedBees =
-    tally?.beesSampled == null && tally?.sampleMl != null && settings.beesPer100Ml ? beesFromSampleVolume(tally.sampleMl, settings.beesPer100Ml) : null;
+    tally?.beesSampled == null && tally?.sampleMl != null
+      ? (tally.estimatedBees ?? (settings.beesPer100Ml ? beesFromSampleVolume(tally.sampleMl, settings.beesPer100Ml) : null))
+      : null;
+  // The office's estimate when the wash was recorded stands; a wash changed here is estimated at today's setting, as the server will.
+  const estimatedWhenRecorded = tally?.beesSampled == null && tally?.estimatedBees != null;
   const washBees = tally?.beesSampled ?? estimatedBees;
   const assessment = tally?.mites != null && washBees != null && washBees > 0 ? assessMiteLoad(tally.mites, washBees, serviceDate, settings.miteThresholds) : null;
   const halfCupMl = roundTo(HALF_US_CUP_ML, 1);
@@ -313,7 +317,9 @@ export function ColonyRow({
           ) : null}
           {estimatedBees !== null ? (
             <p className="col-span-2 text-sm font-semibold text-ink-soft">
-              About {estimatedBees} bees, estimated from {tally.sampleMl} mL at {settings.beesPer100Ml} bees per 100 mL (settings).
+              {estimatedWhenRecorded
+                ? `About ${estimatedBees} bees, estimated from ${tally.sampleMl} mL when the wash was recorded.`
+                : `About ${estimatedBees} bees, estimated from ${tally.sampleMl} mL at ${settings.beesPer100Ml} bees per 100 mL (settings).`}
             </p>
           ) : null}
           {assessment ? (

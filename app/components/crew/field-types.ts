@@ -35,6 +35,12 @@ export type FieldTally = {
   beesSampled: number | null;
   /** The wash sample's volume in mL, when given instead of (or beside) the bees counted. */
   sampleMl?: number | null;
+  /**
+   * The bees the office estimated from the sample's volume when the wash was recorded (the
+   * bees-per-100 mL setting may change later); absent or null once the crew changes the wash.
+   * Never sent: the server estimates again from what it receives.
+   */
+  estimatedBees?: number | null;
   notes: string | null;
   /** What the crew found at the hive when it differs from the record (the colony is corrected and dosed from it). */
   broodBoxes?: number | null;
