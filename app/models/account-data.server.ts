@@ -322,7 +322,7 @@ export const accountDeletionSchema = z.object({
 export class AccountDeletionRefused extends Error {
   constructor(
     message: string,
-    readonly reason: "already_deleted" | "visit_in_progress" | "not_found",
+    readonly reason: "already_deleted" | "visit_in_progress" | "visit_on_run_today" | "not_found",
   ) {
     super(message);
     this.name = "AccountDeletionRefused";
@@ -475,6 +475,24 @@ export async function deleteCustomerAccount(
       throw new AccountDeletionRefused(
         "A crew is treating your colonies right now. You can delete your account once they have finished the visit.",
         "visit_in_progress",
+      );
+    }
+    // A visit on a run already out with its crew (published or under way, today or before):
+    // the crew may be treating it offline, and its tallies must find the visit when they sync.
+    const todayHere = dateInZone(new Date(), (await loadBusinessSettings(trx)).timeZone);
+    const openIds = visits.filter((v) => OPEN_VISIT.includes(v.status)).map((v) => Number(v.id));
+    const onRunOut = openIds.length
+      ? await trx("stops")
+          .join("runs", "runs.id", "stops.run_id")
+          .whereIn("stops.visit_id", openIds)
+          .whereIn("runs.status", ["published", "in_progress"])
+          .where("runs.service_date", "<=", todayHere)
+          .first("stops.visit_id")
+      : undefined;
+    if (onRunOut) {
+      throw new AccountDeletionRefused(
+        "A crew has your yard on today's run. You can delete your account once they have finished the visit, or ask the office to take it off the run.",
+        "visit_on_run_today",
       );
     }
     const visitIds = visits.map((v) => Number(v.id));

@@ -384,6 +384,28 @@ describe("deleting the account", () => {
     expect(await db("audit_log").where({ action: "customer.delete" })).toEqual([]);
   });
 
+  it("is refused while the visit is on a run already out with its crew today, which may be treating it offline", async () => {
+    const wren = await aCustomerWithHistory(WREN);
+    // The booked visit, on its published run, moved to today: the crew has it on the phone.
+    await db("visits").where({ id: wren.futureVisitId }).update({ service_date: today });
+    await db("runs").where({ id: wren.futureRunId }).update({ service_date: today });
+    const before = await db("visits").where({ id: wren.futureVisitId }).first("status");
+
+    const refused = await deleteCustomerAccount(db, { customerId: wren.customerId, actorUserId: wren.userId }).catch((e: unknown) => e);
+    expect(refused).toBeInstanceOf(AccountDeletionRefused);
+    expect((refused as AccountDeletionRefused).reason).toBe("visit_on_run_today");
+    expect((refused as AccountDeletionRefused).message).toMatch(/on today's run/);
+    expect(await db("visits").where({ id: wren.futureVisitId }).first("status")).toEqual(before);
+    expect(await db("stops").where({ visit_id: wren.futureVisitId })).toHaveLength(1);
+    expect(await db("audit_log").where({ action: "customer.delete" })).toEqual([]);
+
+    // Taken off the run by the office (a draft again), the deletion goes ahead.
+    await db("runs").where({ id: wren.futureRunId }).update({ status: "draft" });
+    const result = await deleteCustomerAccount(db, { customerId: wren.customerId, actorUserId: wren.userId });
+    expect(result.keptUntil).not.toBeUndefined();
+    expect(await db("visits").where({ id: wren.futureVisitId }).first("status")).toEqual({ status: "cancelled" });
+  });
+
   it("keeps only the town of a yard address", () => {
     expect(townOfAddress("17 Larch Lane, Dryden, NY 13053")).toBe("Dryden, NY");
     expect(townOfAddress("Lane off Route 13, Freeville, NY 13068-1234")).toBe("Freeville, NY");
