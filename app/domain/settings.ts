@@ -20,11 +20,14 @@ const MONTH_NAMES = [
 
 function numberField(label: string, min: number, max: number, unit = "") {
   const suffix = unit ? ` ${unit}` : "";
+  // NaN (an empty field, see settings-form.ts) is taken as a number and refused by a
+  // refinement: zod 4 treats a NaN type error as aborting, which would skip the cross-field
+  // checks below and hide their messages until this field is filled in.
   return z
-    .number({ error: `Enter ${label} as a number.` })
+    .union([z.number(), z.nan()], { error: `Enter ${label} as a number.` })
     .refine(Number.isFinite, { error: `Enter ${label} as a number.` })
-    .min(min, { error: `${capitalise(label)} must be at least ${min}${suffix}.` })
-    .max(max, { error: `${capitalise(label)} must be at most ${max}${suffix}.` });
+    .refine((v) => !Number.isFinite(v) || v >= min, { error: `${capitalise(label)} must be at least ${min}${suffix}.` })
+    .refine((v) => !Number.isFinite(v) || v <= max, { error: `${capitalise(label)} must be at most ${max}${suffix}.` });
 }
 
 function wholeNumberField(label: string, min: number, max: number, unit = "") {
@@ -180,6 +183,8 @@ export const businessSettingsFieldsSchema = z
 export const businessSettingsSchema = businessSettingsFieldsSchema.superRefine((settings, ctx) => {
     for (const boxType of BOX_TYPES) {
       const field = DOSE_RATE_FIELD[boxType];
+      // An empty rate or label maximum has its own message at its own field.
+      if (!Number.isFinite(settings[field]) || !Number.isFinite(settings.labelMaximumGramsPerBroodBox)) continue;
       for (const problem of doseRateProblems(settings[field], settings.labelMaximumGramsPerBroodBox)) {
         if (problem.aboveLabel && settings.doseAboveLabelConfirmed) continue; // the owner confirmed it
         const message = problem.aboveLabel

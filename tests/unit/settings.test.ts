@@ -173,6 +173,12 @@ describe("validation messages per field", () => {
     expect(errorsFor({ roundsWithBrood: 3, roundIntervalDays: 5 }).roundsWithBrood?.[0]).toMatch(/span 10 days.*at least 12 days/);
     // At both figures: the owner may have changed either.
     expect(errorsFor({ roundsWithBrood: 3, roundIntervalDays: 5 }).roundIntervalDays?.[0]).toMatch(/span 10 days.*at least 12 days/);
+    // An empty field (NaN from the form) does not hide the rules between the others.
+    const withEmpty = errorsFor({ roundsWithBrood: 3, roundIntervalDays: 5, doseGramsPerMediumBox: Number.NaN, blockMinC: Number.NaN });
+    expect(withEmpty.doseGramsPerMediumBox?.[0]).toMatch(/^Enter the dose per medium box as a number/i);
+    expect(withEmpty.blockMinC?.[0]).toMatch(/as a number/);
+    expect(withEmpty.roundsWithBrood?.[0]).toMatch(/span 10 days/);
+    expect(withEmpty).not.toHaveProperty("blockMaxC");
     // 3 rounds 6 days apart span exactly 12 days; the default 3 × 7 spans 14.
     expect(validateBusinessSettings({ roundsWithBrood: 3, roundIntervalDays: 6, maxApplicationsPerColonyPerSeason: 4 }).ok).toBe(true);
     expect(validateBusinessSettings({}).ok).toBe(true);
