@@ -91,8 +91,12 @@ export async function activeCrewsForCapacity(db: Knex, date: string): Promise<Cr
 /** The settings with what the day estimate also needs from the books: a typical colony's vaporizer loads. */
 export type CapacityBusinessSettings = BusinessSettings & { loadsPerTypicalColony: number };
 
-/** The business's settings with a typical colony's vaporizer loads, as the day estimate takes them. */
-export async function withTypicalLoads(db: Knex, settings: BusinessSettings): Promise<CapacityBusinessSettings> {
+/**
+ * The business's settings with a typical colony's vaporizer loads, as the day estimate takes
+ * them; settings that already carry them are returned as they are (read once per write).
+ */
+export async function withTypicalLoads(db: Knex, settings: BusinessSettings | CapacityBusinessSettings): Promise<CapacityBusinessSettings> {
+  if ("loadsPerTypicalColony" in settings && settings.loadsPerTypicalColony != null) return settings;
   return { ...settings, loadsPerTypicalColony: await typicalColonyLoads(db, settings) };
 }
 
@@ -227,10 +231,12 @@ export async function lockDaysForColonies(
     byDate.set(need.date, { adding: sum.adding + need.adding, centigrams: sum.centigrams + gramsToCentigrams(need.addingGrams ?? 0) });
   }
   const checks: DayRoomCheck[] = [];
+  // A typical colony's loads read once for all the days.
+  const estimateSettings = await withTypicalLoads(trx, settings);
   // ISO dates sort as strings.
   for (const date of [...byDate.keys()].sort()) {
     const need = byDate.get(date)!;
-    checks.push(await lockDayForColonies(trx, settings, date, need.adding, centigramsToGrams(need.centigrams)));
+    checks.push(await lockDayForColonies(trx, estimateSettings, date, need.adding, centigramsToGrams(need.centigrams)));
   }
   return checks;
 }

@@ -430,6 +430,8 @@ async function applyChange(
 
   await lockServiceDay(trx, date);
   await trx("visits").where({ service_date: date }).whereIn("status", [...OPEN, ...UNDER_WAY]).orderBy("id").forUpdate().select("id");
+  // A typical colony's loads read once for the three looks at the day below.
+  settings = await withTypicalLoads(trx, settings);
   const before = await lockDayRoom(trx, settings, date);
   const dayBefore = (await trx("service_days").where({ service_date: date }).first())!;
 

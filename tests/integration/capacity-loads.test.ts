@@ -2,7 +2,7 @@ import { afterAll, beforeEach, describe, expect, it } from "vitest";
 import { crewDayCapacityColonies } from "~/domain/capacity";
 import { addCalendarDays } from "~/domain/courses";
 import { defaultBusinessSettings } from "~/domain/settings";
-import { lockDayForColonies, roomBetween } from "~/models/capacity.server";
+import { lockDayForColonies, roomBetween, withTypicalLoads } from "~/models/capacity.server";
 import { crewEstimateBasis, listCrews } from "~/models/crews.server";
 import { dateInZone } from "~/services/clock.server";
 import { db } from "~/services/db.server";
@@ -74,6 +74,11 @@ describe("a crew's day by the vaporizer loads of a typical colony", () => {
     expect(check).toMatchObject({ capacity: twoLoads, refusal: "full" });
     const fits = await db.transaction((trx) => lockDayForColonies(trx, settings, day, twoLoads));
     expect(fits.refusal).toBeNull();
+
+    // Read once per write: settings that carry the loads are taken as they are.
+    const withLoads = await withTypicalLoads(db, settings);
+    expect(withLoads.loadsPerTypicalColony).toBe(2);
+    expect(await withTypicalLoads(db, withLoads)).toBe(withLoads);
 
     // An archived yard no longer counts: one load again.
     await db("yards").where({ id: big }).update({ archived_at: db.fn.now() });
